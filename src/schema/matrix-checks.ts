@@ -1,0 +1,84 @@
+import { CholeskyDecomposition, EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { TOLERANCES } from './limits.js';
+import { problem, type PathPart, type Problem } from './problems.js';
+
+/**
+ * Checks of a caller's matrix: shape, symmetry, positive semi-definiteness.
+ * Speed does not matter here (once per request), so ml-matrix is used.
+ */
+
+/** Rows of length `cols`; returns false (with problems) if any row is off. */
+export function checkShape(m: readonly (readonly number[])[], rows: number, cols: number, path: PathPart[], what: string, out: Problem[]): boolean {
+  let ok = true;
+  if (m.length !== rows) {
+    out.push(problem(path, `${what}: expected ${rows} rows, got ${m.length}`));
+    ok = false;
+  }
+  m.forEach((row, i) => {
+    if (row.length !== cols) {
+      out.push(problem([...path, i], `expected ${cols} numbers (${what} has ${cols} columns), got ${row.length}`));
+      ok = false;
+    }
+  });
+  return ok;
+}
+
+/** Symmetric to within TOLERANCES.symmetry × the largest diagonal entry. */
+export function checkSymmetric(m: readonly (readonly number[])[], path: PathPart[], out: Problem[]): boolean {
+  const n = m.length;
+  let scale = 0;
+  for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(m[i][i]));
+  const tol = TOLERANCES.symmetry * Math.max(scale, Number.MIN_VALUE);
+  let ok = true;
+  for (let i = 0; i < n && ok; i++) {
+    if (m[i][i] < 0) {
+      out.push(problem([...path, i, i], `a variance must be ≥ 0, got ${m[i][i]}`));
+      ok = false;
+    }
+    for (let j = i + 1; j < n; j++) {
+      if (Math.abs(m[i][j] - m[j][i]) > tol) {
+        out.push(problem([...path, i, j], `matrix must be symmetric: [${i}][${j}] = ${m[i][j]} but [${j}][${i}] = ${m[j][i]} (tolerance ${tol.toExponential(2)})`));
+        ok = false;
+        break;
+      }
+    }
+  }
+  return ok;
+}
+
+export interface PsdCheck {
+  readonly psd: boolean;
+  /** Smallest eigenvalue (only computed when the fast Cholesky test fails). */
+  readonly smallestEigenvalue?: number;
+}
+
+/** PSD to within TOLERANCES.psd relative to the largest eigenvalue. Cholesky first; eigenvalues only when that fails. */
+export function checkPsd(m: readonly (readonly number[])[]): PsdCheck {
+  const a = new Matrix(m.map((r) => [...r]));
+  if (new CholeskyDecomposition(a).isPositiveDefinite()) return { psd: true };
+  const values = new EigenvalueDecomposition(a, { assumeSymmetric: true }).realEigenvalues;
+  const smallest = Math.min(...values);
+  const largest = Math.max(...values);
+  return { psd: smallest >= -TOLERANCES.psd * Math.max(1, Math.abs(largest)), smallestEigenvalue: smallest };
+}
+
+/** Nearest PSD matrix in the Frobenius norm for a symmetric input: clip eigenvalues at 0 (Higham 1988, symmetric case). */
+export function nearestPsd(m: readonly (readonly number[])[]): number[][] {
+  const e = new EigenvalueDecomposition(new Matrix(m.map((r) => [...r])), { assumeSymmetric: true });
+  const v = e.eigenvectorMatrix;
+  const d = e.realEigenvalues.map((x) => Math.max(x, 0));
+  const n = m.length;
+  const out: number[][] = [];
+  for (let i = 0; i < n; i++) {
+    const row = new Array<number>(n).fill(0);
+    for (let j = 0; j < n; j++) {
+      let s = 0;
+      for (let k = 0; k < n; k++) s += v.get(i, k) * d[k] * v.get(j, k);
+      row[j] = s;
+    }
+    out.push(row);
+  }
+  // Symmetrise exactly: rounding leaves asymmetry at the 1e-17 level.
+  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) out[i][j] = out[j][i] = 0.5 * (out[i][j] + out[j][i]);
+  return out;
+}

@@ -1,0 +1,162 @@
+import { z } from 'zod';
+import { MethodSpecSchema } from './proposal.js';
+
+/**
+ * The report and the optimize response. Every figure from draws carries its Monte Carlo
+ * standard error. Volatilities, expected returns and tracking errors are annualised.
+ */
+
+const fraction = z.number();
+
+export const WarningSchema = z.strictObject({
+  code: z.string().describe('Stable machine-readable code.'),
+  message: z.string().describe('Plain-language explanation.'),
+});
+
+export const DiagnosticsSchema = z
+  .strictObject({
+    solver: z.string(),
+    iterations: z.int().min(0),
+    converged: z.boolean(),
+    kktResidual: z.number().min(0).describe('Largest violation of the optimality (KKT) conditions at the returned weights.'),
+  })
+  .describe('How the optimisation went.');
+
+export const BaseOptimumSchema = z
+  .strictObject({
+    weights: z.array(fraction).describe('Optimal weights on the unperturbed inputs, fractions in the order of `assets`.'),
+    expectedReturn: z.number().describe('Annualised expected return μᵀw × periodsPerYear.'),
+    volatility: z.number().min(0).describe('Annualised volatility √(wᵀΣw × periodsPerYear).'),
+    riskContributions: z.array(z.number()).describe('Euler risk contributions w_i(Σw)_i / wᵀΣw, fractions of total risk summing to 1 (Tasche 2008).'),
+    diversificationRatio: z.number().describe('wᵀσ / √(wᵀΣw) (Choueifaty & Coignard 2008).'),
+    effectiveHoldings: z.number().describe('1 / Σ w_i².'),
+    factorRiskShare: z
+      .strictObject({ factor: z.number(), specific: z.number() })
+      .optional()
+      .describe('Shares of variance from factor risk wᵀBFBᵀw and specific risk wᵀDw (with a factor model).'),
+    diagnostics: DiagnosticsSchema,
+    warnings: z.array(WarningSchema),
+  })
+  .describe("A method's optimum on the base inputs.");
+
+export const StatSchema = z
+  .strictObject({
+    mean: z.number(),
+    stdErr: z.number().min(0).describe('Monte Carlo standard error of the mean (sd/√draws).'),
+    p05: z.number(),
+    p50: z.number(),
+    p95: z.number(),
+    p50StdErr: z.number().min(0).optional().describe('Monte Carlo standard error of the median (batch means).'),
+  })
+  .describe('Summary over draws.');
+
+export const BandSchema = StatSchema.extend({ base: z.number().describe('Value on the unperturbed inputs.') });
+
+export const WeightBandSchema = z.strictObject({
+  asset: z.string(),
+  mean: z.number(),
+  sd: z.number().min(0),
+  p05: z.number(),
+  p25: z.number(),
+  p50: z.number(),
+  p75: z.number(),
+  p95: z.number(),
+  bandStdErr: z.number().min(0).describe('Monte Carlo standard error of p05 and p95 (the larger; batch means).'),
+  selectionRate: z.number().min(0).max(1).describe('Share of draws where |w_i| exceeds the selection threshold.'),
+  proposalPercentile: z.number().min(0).max(100).describe("Where the proposal's weight falls in the resampled distribution (mid-rank percentile, 0–100)."),
+});
+
+export const MethodReportSchema = z.strictObject({
+  method: MethodSpecSchema,
+  base: BaseOptimumSchema,
+  weights: z.array(WeightBandSchema),
+  turnoverFromProposal: StatSchema.describe('One-way turnover ½Σ|w_b − w_proposal| of each draw’s optimum.'),
+  turnoverFromBase: StatSchema.describe('One-way turnover ½Σ|w_b − w_base| of each draw’s optimum.'),
+  volatility: StatSchema.describe('Annualised volatility of each draw’s optimum under that draw’s covariance.'),
+  certaintyEquivalentLoss: StatSchema.describe(
+    'CE(w*_MV,base) − CE(w_b), both scored at the base inputs; annualised (DeMiguel, Garlappi & Uppal 2009 compare methods this way).',
+  ),
+  meanDrivenShare: z
+    .strictObject({
+      overall: z.number().min(0).max(1),
+      perAsset: z.array(z.number().min(0).max(1)),
+      stdErr: z.number().min(0).describe('Monte Carlo standard error of `overall` (batch means).'),
+    })
+    .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
+  resampledAverage: z.array(z.number()).describe('Weights averaged over draws.'),
+  failedDraws: z.int().min(0),
+});
+
+export const ReportMetaSchema = z.strictObject({
+  version: z.string(),
+  seed: z.union([z.string(), z.int()]),
+  drawsRequested: z.int(),
+  drawsCompleted: z.int(),
+  failedDraws: z.int().describe('Draws where at least one method failed to solve; those draws are excluded for that method.'),
+  failureReasons: z.array(z.strictObject({ method: z.string(), reason: z.string(), count: z.int() })),
+  elapsedMs: z.number().describe('Wall time; the only field that varies between identical runs.'),
+  inputDigest: z.string().describe('sha-256 (hex) of the canonical proposal JSON (keys sorted).'),
+  scheme: z.enum(['stationary-bootstrap', 'iid-bootstrap', 'parametric']),
+  meanBlockLength: z.number().nullable().describe('Mean block length used by the stationary bootstrap, else null.'),
+  periodsPerYear: z.number(),
+  channels: z.array(z.string()).describe('joint, mean-only and covariance-only share random numbers.'),
+  percentiles: z.string().describe('The percentile definition used everywhere.'),
+  monteCarloError: z.string().describe('How standard errors are computed.'),
+  workUnits: z.number().describe('Estimated operations for this request, checked against the limit.'),
+});
+
+export const VerdictRuleSchema = z.strictObject({
+  id: z.string(),
+  metric: z.string(),
+  method: z.string(),
+  value: z.number(),
+  stdErr: z.number().min(0),
+  threshold: z.number(),
+  kind: z.enum(['max', 'min', 'maxIncrease']),
+  baselineValue: z.number().optional(),
+  pass: z.boolean(),
+  message: z.string(),
+});
+
+export const VerdictSchema = z.strictObject({
+  pass: z.boolean(),
+  confidence: z.number(),
+  rules: z.array(VerdictRuleSchema),
+});
+
+export const ReportSchema = z
+  .strictObject({
+    meta: ReportMetaSchema,
+    assets: z.array(z.string()),
+    proposal: z.strictObject({
+      method: MethodSpecSchema,
+      weights: z.array(z.number()),
+      expectedReturn: BandSchema.describe('Annualised expected return of the proposal under resampled means.'),
+      volatility: BandSchema.describe('Annualised volatility of the proposal under resampled covariances.'),
+      expectedShortfall95: BandSchema.optional().describe('Per-period 95 % expected shortfall of the proposal over resampled histories (return histories only), as a positive loss.'),
+      riskContributions: z.array(
+        z.strictObject({ asset: z.string(), base: z.number(), p05: z.number(), p50: z.number(), p95: z.number() }),
+      ),
+    }),
+    methods: z.array(MethodReportSchema),
+    findings: z.array(z.strictObject({ code: z.string(), asset: z.string().optional(), method: z.string().optional(), message: z.string() })),
+    warnings: z.array(WarningSchema),
+    verdict: VerdictSchema.optional(),
+    cautions: z.array(z.string()),
+  })
+  .describe('The robustness report for a proposal.');
+
+export const OptimizeResponseSchema = z.strictObject({
+  meta: z.strictObject({ version: z.string(), inputDigest: z.string(), periodsPerYear: z.number(), elapsedMs: z.number() }),
+  assets: z.array(z.string()),
+  methods: z.array(z.strictObject({ method: MethodSpecSchema, base: BaseOptimumSchema })),
+  warnings: z.array(WarningSchema),
+  cautions: z.array(z.string()),
+});
+
+export type Report = z.infer<typeof ReportSchema>;
+export type MethodReport = z.infer<typeof MethodReportSchema>;
+export type BaseOptimum = z.infer<typeof BaseOptimumSchema>;
+export type Stat = z.infer<typeof StatSchema>;
+export type OptimizeResponse = z.infer<typeof OptimizeResponseSchema>;
+export type Verdict = z.infer<typeof VerdictSchema>;

@@ -1,0 +1,257 @@
+import { TOLERANCES } from './limits.js';
+import { expandBound } from './bounds.js';
+import { checkPsd, checkShape, checkSymmetric, nearestPsd } from './matrix-checks.js';
+import { problem, problemsFromZod, type Problem } from './problems.js';
+import { ProposalSchema, type MethodSpec, type Proposal } from './proposal.js';
+
+export interface Warning {
+  readonly code: string;
+  readonly message: string;
+}
+
+export type Validation =
+  | { readonly ok: true; readonly proposal: Proposal; readonly warnings: Warning[] }
+  | { readonly ok: false; readonly problems: Problem[] };
+
+/**
+ * Validates a parsed JSON body: shape with zod, then every semantic rule, collecting all
+ * problems at once. On success the proposal may differ from the input only where the caller
+ * opted in (covariance repair), and then a warning says so.
+ */
+export function validateProposal(body: unknown): Validation {
+  const parsed = ProposalSchema.safeParse(body);
+  if (!parsed.success) {
+    return { ok: false, problems: problemsFromZod(parsed.error.issues) };
+  }
+  const proposal = parsed.data;
+  const problems: Problem[] = [];
+  const warnings: Warning[] = [];
+  const n = proposal.assets.length;
+
+  checkAssets(proposal, problems);
+  checkLength(proposal.weights, n, ['weights'], 'weights', problems);
+  const repaired = checkInputs(proposal, problems, warnings);
+  checkViews(proposal, problems);
+  for (const [i, spec] of [proposal.method, ...(proposal.compare ?? [])].entries()) {
+    checkMethod(spec, proposal, i === 0 ? ['method'] : ['compare', i - 1], problems);
+  }
+  checkConstraints(proposal, problems, warnings);
+  checkWeights(proposal, problems, warnings);
+  checkResampling(proposal, problems);
+
+  if (problems.length > 0) return { ok: false, problems };
+  return { ok: true, proposal: repaired ?? proposal, warnings };
+}
+
+function checkLength(v: readonly unknown[], n: number, path: (string | number)[], what: string, out: Problem[]): boolean {
+  if (v.length === n) return true;
+  out.push(problem(path, `expected ${n} numbers (one per asset), got ${v.length} ${what}`));
+  return false;
+}
+
+function checkAssets(p: Proposal, out: Problem[]): void {
+  const seen = new Map<string, number>();
+  p.assets.forEach((id, i) => {
+    const first = seen.get(id);
+    if (first !== undefined) out.push(problem(['assets', i], `asset ids must be unique: "${id}" already at assets[${first}]`));
+    else seen.set(id, i);
+  });
+}
+
+/** Returns a repaired proposal when the caller opted in to covariance repair. */
+function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): Proposal | undefined {
+  const n = p.assets.length;
+  const inputs = p.inputs;
+  const estimation = p.estimation;
+  if ('returns' in inputs) {
+    const t = inputs.returns.length;
+    checkShape(inputs.returns, t, n, ['inputs', 'returns'], 'returns (one column per asset)', out);
+    inputs.returns.forEach((row, r) =>
+      row.forEach((x, j) => {
+        if (x <= -1) out.push(problem(['inputs', 'returns', r, j], `a simple return must be > −1 (a loss of more than 100 %), got ${x}`));
+      }),
+    );
+    if (t <= n && (estimation?.covariance ?? 'sample') === 'sample' && (estimation?.factorModel ?? 'none') === 'none') {
+      warnings.push({
+        code: 'singular-sample-covariance',
+        message: `The history has ${t} rows for ${n} assets, so the sample covariance is singular; consider estimation.covariance "ledoit-wolf" or a factor model.`,
+      });
+    }
+    if (inputs.factors) {
+      const k = inputs.factors.names.length;
+      checkUnique(inputs.factors.names, ['inputs', 'factors', 'names'], 'factor names', out);
+      checkShape(inputs.factors.returns, t, k, ['inputs', 'factors', 'returns'], 'factor returns (same rows as returns, one column per factor)', out);
+    }
+    if (estimation?.factorModel === 'regression' && !inputs.factors) {
+      out.push(problem(['estimation', 'factorModel'], 'factorModel "regression" needs inputs.factors (the factor return history)'));
+    }
+    if (estimation?.factorModel === 'pca') {
+      const k = estimation.pcaFactors;
+      if (k === undefined) out.push(problem(['estimation', 'pcaFactors'], 'factorModel "pca" needs pcaFactors, the number of components'));
+      else if (k >= Math.min(n, t - 1)) out.push(problem(['estimation', 'pcaFactors'], `expected fewer than min(assets, rows − 1) = ${Math.min(n, t - 1)} components, got ${k}`));
+    }
+    if (estimation?.covariance === 'ewma' && estimation.ewmaDecay === undefined) {
+      warnings.push({ code: 'ewma-default-decay', message: 'estimation.ewmaDecay not given; using 0.94 (the usual daily choice, common practice).' });
+    }
+    return undefined;
+  }
+  if (estimation && (estimation.covariance !== 'sample' || estimation.factorModel !== 'none' || estimation.ewmaDecay !== undefined || estimation.pcaFactors !== undefined)) {
+    out.push(problem(['estimation'], 'covariance estimators and estimated factor models apply only to inputs.returns (a return history); these inputs are already moments'));
+  }
+  checkLength(inputs.mean, n, ['inputs', 'mean'], 'means', out);
+  if ('covariance' in inputs) {
+    if (!checkShape(inputs.covariance, n, n, ['inputs', 'covariance'], 'covariance (N×N)', out)) return undefined;
+    if (!checkSymmetric(inputs.covariance, ['inputs', 'covariance'], out)) return undefined;
+    const psd = checkPsd(inputs.covariance);
+    if (psd.psd) return undefined;
+    if (estimation?.repairCovariance) {
+      warnings.push({
+        code: 'covariance-repaired',
+        message: `The covariance was not positive semi-definite (smallest eigenvalue ${psd.smallestEigenvalue?.toExponential(3)}); it was replaced by the nearest PSD matrix (eigenvalues clipped at 0) as requested.`,
+      });
+      return { ...p, inputs: { ...inputs, covariance: nearestPsd(inputs.covariance) } };
+    }
+    out.push(
+      problem(
+        ['inputs', 'covariance'],
+        `covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6)}; fix it, or set estimation.repairCovariance: true to use the nearest PSD matrix`,
+      ),
+    );
+    return undefined;
+  }
+  const fm = inputs.factorModel;
+  const k = fm.factors.length;
+  checkUnique(fm.factors, ['inputs', 'factorModel', 'factors'], 'factor ids', out);
+  checkShape(fm.loadings, n, k, ['inputs', 'factorModel', 'loadings'], 'loadings (N×K)', out);
+  checkLength(fm.specificVariance, n, ['inputs', 'factorModel', 'specificVariance'], 'specific variances', out);
+  fm.specificVariance.forEach((d, i) => {
+    if (!(d > 0)) out.push(problem(['inputs', 'factorModel', 'specificVariance', i], `a specific variance must be > 0, got ${d}`));
+  });
+  if (checkShape(fm.factorCovariance, k, k, ['inputs', 'factorModel', 'factorCovariance'], 'factor covariance (K×K)', out) && checkSymmetric(fm.factorCovariance, ['inputs', 'factorModel', 'factorCovariance'], out)) {
+    const psd = checkPsd(fm.factorCovariance);
+    if (!psd.psd) out.push(problem(['inputs', 'factorModel', 'factorCovariance'], `factor covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6)}`));
+  }
+  return undefined;
+}
+
+function checkUnique(ids: readonly string[], path: (string | number)[], what: string, out: Problem[]): void {
+  const seen = new Set<string>();
+  ids.forEach((id, i) => {
+    if (seen.has(id)) out.push(problem([...path, i], `${what} must be unique: "${id}" appears twice`));
+    seen.add(id);
+  });
+}
+
+function checkViews(p: Proposal, out: Problem[]): void {
+  if (!p.views) return;
+  const n = p.assets.length;
+  checkLength(p.views.mean, n, ['views', 'mean'], 'view means', out);
+  checkLength(p.views.stdErr, n, ['views', 'stdErr'], 'standard errors', out);
+  p.views.stdErr.forEach((s, i) => {
+    if (!(s > 0)) out.push(problem(['views', 'stdErr', i], `a standard error must be > 0, got ${s}`));
+  });
+}
+
+function hasFactorModel(p: Proposal): boolean {
+  return 'factorModel' in p.inputs || (p.estimation?.factorModel ?? 'none') !== 'none';
+}
+
+function checkMethod(spec: MethodSpec, p: Proposal, path: (string | number)[], out: Problem[]): void {
+  if (spec.name === 'mean-variance' && typeof spec.riskAversion === 'object' && !hasFactorModel(p)) {
+    out.push(problem([...path, 'riskAversion'], 'separate factor and specific risk aversion needs a factor model (inputs.factorModel, or estimation.factorModel "regression" or "pca"); give one number instead'));
+  }
+  if (spec.name === 'risk-parity') {
+    const c = p.constraints;
+    if (c && (c.longOnly === false || Math.abs(c.budget - 1) > TOLERANCES.budget)) {
+      out.push(problem([...path, 'name'], 'risk parity is long-only and fully invested (budget 1); these constraints differ'));
+    }
+    if (spec.budgets) {
+      checkLength(spec.budgets, p.assets.length, [...path, 'budgets'], 'risk budgets', out);
+      spec.budgets.forEach((b, i) => {
+        if (!(b > 0)) out.push(problem([...path, 'budgets', i], `a risk budget must be > 0, got ${b}`));
+      });
+    }
+  }
+}
+
+function checkConstraints(p: Proposal, out: Problem[], warnings: Warning[]): void {
+  const c = p.constraints;
+  if (!c) return;
+  const n = p.assets.length;
+  for (const side of ['lower', 'upper'] as const) {
+    const b = c[side];
+    if (Array.isArray(b)) checkLength(b, n, ['constraints', side], `${side} bounds`, out);
+  }
+  if (out.length > 0) return;
+  const lower = expandBound(c.lower, n, c.longOnly ? 0 : -Infinity);
+  const upper = expandBound(c.upper, n, Infinity);
+  let sumLower = 0;
+  let sumUpper = 0;
+  for (let i = 0; i < n; i++) {
+    if (c.longOnly && lower[i] < 0) out.push(problem(['constraints', 'lower', ...(Array.isArray(c.lower) ? [i] : [])], `long-only portfolios cannot have a negative lower bound (got ${lower[i]}); set longOnly: false to allow short positions`));
+    if (lower[i] > upper[i]) out.push(problem(['constraints', 'upper', ...(Array.isArray(c.upper) ? [i] : [])], `upper bound ${upper[i]} is below lower bound ${lower[i]} for ${p.assets[i]}`));
+    sumLower += lower[i];
+    sumUpper += upper[i];
+  }
+  if (sumLower > c.budget + TOLERANCES.budget) out.push(problem(['constraints', 'lower'], `infeasible: lower bounds sum to ${round(sumLower)}, above the budget ${c.budget}`, 'unsolvable'));
+  if (sumUpper < c.budget - TOLERANCES.budget) out.push(problem(['constraints', 'upper'], `infeasible: upper bounds sum to ${round(sumUpper)}, below the budget ${c.budget}`, 'unsolvable'));
+  const index = new Map(p.assets.map((a, i) => [a, i] as const));
+  const names = new Set<string>();
+  (c.groups ?? []).forEach((g, gi) => {
+    const path = ['constraints', 'groups', gi];
+    if (names.has(g.name)) out.push(problem([...path, 'name'], `group names must be unique: "${g.name}" appears twice`));
+    names.add(g.name);
+    let gLower = 0;
+    let gUpper = 0;
+    g.assets.forEach((a, ai) => {
+      const i = index.get(a);
+      if (i === undefined) out.push(problem([...path, 'assets', ai], `unknown asset "${a}" (not in assets)`));
+      else {
+        gLower += lower[i];
+        gUpper += upper[i];
+      }
+    });
+    if (g.min === undefined && g.max === undefined) warnings.push({ code: 'group-without-limits', message: `Group "${g.name}" has neither min nor max; it constrains nothing.` });
+    if (g.min !== undefined && g.max !== undefined && g.min > g.max) out.push(problem([...path, 'max'], `group max ${g.max} is below its min ${g.min}`));
+    if (g.min !== undefined && g.min > gUpper + TOLERANCES.budget) out.push(problem([...path, 'min'], `infeasible: group min ${g.min} exceeds the sum of its members' upper bounds ${round(gUpper)}`, 'unsolvable'));
+    if (g.max !== undefined && g.max < gLower - TOLERANCES.budget) out.push(problem([...path, 'max'], `infeasible: group max ${g.max} is below the sum of its members' lower bounds ${round(gLower)}`, 'unsolvable'));
+  });
+}
+
+function checkWeights(p: Proposal, out: Problem[], warnings: Warning[]): void {
+  const n = p.assets.length;
+  if (p.weights.length !== n) return;
+  const budget = p.constraints?.budget ?? 1;
+  const longOnly = p.constraints?.longOnly ?? true;
+  const sum = p.weights.reduce((a, b) => a + b, 0);
+  if (Math.abs(sum - budget) > TOLERANCES.budget) out.push(problem(['weights'], `weights must sum to the budget ${budget} (±${TOLERANCES.budget}), got ${sum}`));
+  if (longOnly) {
+    p.weights.forEach((w, i) => {
+      if (w < -TOLERANCES.negativeWeight) out.push(problem(['weights', i], `long-only proposal has a negative weight ${w} for ${p.assets[i]}; set constraints.longOnly: false if shorts are intended`));
+    });
+  }
+  const c = p.constraints;
+  if (c && out.length === 0) {
+    const lower = expandBound(c.lower, n, longOnly ? 0 : -Infinity);
+    const upper = expandBound(c.upper, n, Infinity);
+    const outside = p.assets.filter((_, i) => p.weights[i] < lower[i] - TOLERANCES.budget || p.weights[i] > upper[i] + TOLERANCES.budget);
+    if (outside.length > 0) warnings.push({ code: 'proposal-outside-bounds', message: `The proposal itself breaks the per-asset bounds for: ${outside.join(', ')}.` });
+  }
+}
+
+function checkResampling(p: Proposal, out: Problem[]): void {
+  const r = p.resampling;
+  if (!r?.scheme) return;
+  const inputs = p.inputs;
+  const history = 'returns' in inputs;
+  if (!history && r.scheme !== 'parametric') out.push(problem(['resampling', 'scheme'], `"${r.scheme}" resamples a return history; these inputs are moments, so use "parametric"`));
+  if (r.meanBlockLength !== undefined && r.scheme !== 'stationary-bootstrap') out.push(problem(['resampling', 'meanBlockLength'], 'meanBlockLength applies only to the stationary bootstrap'));
+  if ('returns' in inputs && typeof r.meanBlockLength === 'number' && r.meanBlockLength > inputs.returns.length) {
+    out.push(problem(['resampling', 'meanBlockLength'], `expected at most the number of rows (${inputs.returns.length}), got ${r.meanBlockLength}`));
+  }
+}
+
+function round(x: number): number {
+  return Math.round(x * 1e9) / 1e9;
+}
+
