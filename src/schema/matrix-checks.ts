@@ -61,24 +61,3 @@ export function checkPsd(m: readonly (readonly number[])[]): PsdCheck {
   const largest = Math.max(...values);
   return { psd: smallest >= -TOLERANCES.psd * Math.max(1, Math.abs(largest)), smallestEigenvalue: smallest };
 }
-
-/** Nearest PSD matrix in the Frobenius norm for a symmetric input: clip eigenvalues at 0 (Higham 1988, symmetric case). */
-export function nearestPsd(m: readonly (readonly number[])[]): number[][] {
-  const e = new EigenvalueDecomposition(new Matrix(m.map((r) => [...r])), { assumeSymmetric: true });
-  const v = e.eigenvectorMatrix;
-  const d = e.realEigenvalues.map((x) => Math.max(x, 0));
-  const n = m.length;
-  const out: number[][] = [];
-  for (let i = 0; i < n; i++) {
-    const row = new Array<number>(n).fill(0);
-    for (let j = 0; j < n; j++) {
-      let s = 0;
-      for (let k = 0; k < n; k++) s += v.get(i, k) * d[k] * v.get(j, k);
-      row[j] = s;
-    }
-    out.push(row);
-  }
-  // Symmetrise exactly: rounding leaves asymmetry at the 1e-17 level.
-  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) out[i][j] = out[j][i] = 0.5 * (out[i][j] + out[j][i]);
-  return out;
-}

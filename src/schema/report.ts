@@ -52,6 +52,10 @@ export const StatSchema = z
 
 export const BandSchema = StatSchema.extend({ base: z.number().describe('Value on the unperturbed inputs.') });
 
+export const EstimateSchema = z
+  .strictObject({ value: z.number(), stdErr: z.number().min(0).describe('Monte Carlo standard error (batch means).') })
+  .describe('A draw-based figure with its Monte Carlo error.');
+
 export const WeightBandSchema = z.strictObject({
   asset: z.string(),
   mean: z.number(),
@@ -84,6 +88,8 @@ export const MethodReportSchema = z.strictObject({
     })
     .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
   resampledAverage: z.array(z.number()).describe('Weights averaged over draws.'),
+  outsideBandShare: EstimateSchema.describe("Share of assets whose proposed weight lies outside this method's p05–p95 band."),
+  maxWeightSd: EstimateSchema.describe('Largest standard deviation of any asset’s weight across draws.'),
   failedDraws: z.int().min(0),
 });
 
@@ -133,6 +139,7 @@ export const ReportSchema = z
       weights: z.array(z.number()),
       expectedReturn: BandSchema.describe('Annualised expected return of the proposal under resampled means.'),
       volatility: BandSchema.describe('Annualised volatility of the proposal under resampled covariances.'),
+      volatilityBandWidth: EstimateSchema.describe('p95 − p05 of the proposal’s annualised volatility.'),
       expectedShortfall95: BandSchema.optional().describe('Per-period 95 % expected shortfall of the proposal over resampled histories (return histories only), as a positive loss.'),
       riskContributions: z.array(
         z.strictObject({ asset: z.string(), base: z.number(), p05: z.number(), p50: z.number(), p95: z.number() }),

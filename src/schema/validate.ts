@@ -1,6 +1,6 @@
 import { TOLERANCES } from './limits.js';
 import { expandBound } from './bounds.js';
-import { checkPsd, checkShape, checkSymmetric, nearestPsd } from './matrix-checks.js';
+import { checkPsd, checkShape, checkSymmetric } from './matrix-checks.js';
 import { problem, problemsFromZod, type Problem } from './problems.js';
 import { ProposalSchema, type MethodSpec, type Proposal } from './proposal.js';
 
@@ -15,8 +15,7 @@ export type Validation =
 
 /**
  * Validates a parsed JSON body: shape with zod, then every semantic rule, collecting all
- * problems at once. On success the proposal may differ from the input only where the caller
- * opted in (covariance repair), and then a warning says so.
+ * problems at once.
  */
 export function validateProposal(body: unknown): Validation {
   const parsed = ProposalSchema.safeParse(body);
@@ -30,7 +29,7 @@ export function validateProposal(body: unknown): Validation {
 
   checkAssets(proposal, problems);
   checkLength(proposal.weights, n, ['weights'], 'weights', problems);
-  const repaired = checkInputs(proposal, problems, warnings);
+  checkInputs(proposal, problems, warnings);
   checkViews(proposal, problems);
   for (const [i, spec] of [proposal.method, ...(proposal.compare ?? [])].entries()) {
     checkMethod(spec, proposal, i === 0 ? ['method'] : ['compare', i - 1], problems);
@@ -40,7 +39,7 @@ export function validateProposal(body: unknown): Validation {
   checkResampling(proposal, problems);
 
   if (problems.length > 0) return { ok: false, problems };
-  return { ok: true, proposal: repaired ?? proposal, warnings };
+  return { ok: true, proposal, warnings };
 }
 
 function checkLength(v: readonly unknown[], n: number, path: (string | number)[], what: string, out: Problem[]): boolean {
@@ -58,8 +57,8 @@ function checkAssets(p: Proposal, out: Problem[]): void {
   });
 }
 
-/** Returns a repaired proposal when the caller opted in to covariance repair. */
-function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): Proposal | undefined {
+/** Checks the inputs; a covariance that needs the opted-in repair gets a warning here and is repaired in prepareProblem. */
+function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefined {
   const n = p.assets.length;
   const inputs = p.inputs;
   const estimation = p.estimation;
@@ -109,7 +108,7 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): Proposal
         code: 'covariance-repaired',
         message: `The covariance was not positive semi-definite (smallest eigenvalue ${psd.smallestEigenvalue?.toExponential(3)}); it was replaced by the nearest PSD matrix (eigenvalues clipped at 0) as requested.`,
       });
-      return { ...p, inputs: { ...inputs, covariance: nearestPsd(inputs.covariance) } };
+      return undefined;
     }
     out.push(
       problem(
