@@ -7,6 +7,7 @@ export default defineConfig({
     root: new URL('..', import.meta.url).pathname,
     include: ['test/**/*.test.ts'],
     exclude: ['test/worker/**', 'node_modules/**'],
+    setupFiles: ['test/setup.ts'],
     testTimeout: 60_000,
     pool: 'forks',
   },

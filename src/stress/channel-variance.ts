@@ -1,0 +1,386 @@
+import { batchCount, batchOfDraw, stdErrOfBatchStatistics, UNIT_INTERVAL_MAX_SD } from './batch-means.js';
+import { checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_RECORDED, DRAW_SUCCEEDED, mergeDrawStatus } from './scalar-accumulator.js';
+
+/**
+ * Mean-driven share of weight variability (design: "channels"). The mean-only channel resamples
+ * μ with Σ at base, the covariance-only channel resamples Σ with μ at base (common random
+ * numbers). For asset i, meanDrivenShare_i = Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i))
+ * (0 when both are 0); overall = Σ_i Var_mean,i / Σ_i (Var_mean,i + Var_cov,i). Variances are
+ * sample variances (divisor n − 1) over each channel's successful draws.
+ *
+ * Streaming and order-independent, memory O(batches × N): per batch, asset and channel the
+ * accumulator keeps Σw and Σw² as EXACT sums, plus min and max. Exactness is what makes the
+ * result bit-identical however draws are ordered or split (floating-point sums otherwise depend
+ * on order). Each value is cut into five pieces on fixed grids 2^24, 2^−4, 2^−32, 2^−60, 2^−88
+ * (piece = round(rest / g)·g; the remainder is exact); each grid's pieces are integers times g
+ * below 2^28, so up to 2^25 draws add without rounding (the idea of pre-rounding to fixed
+ * boundaries, as in Demmel & Nguyen 2013, "Fast reproducible floating-point summation", ARITH 21).
+ * Only |rest| ≤ 2^−89 per value is dropped, deterministically. w² enters exactly as the
+ * double-double Dekker product (Dekker 1971, "A floating-point technique for extending the
+ * available precision", Numer. Math. 18). The variance n·Σw² − (Σw)² is then formed in
+ * double-double, so the usual cancellation of the one-pass formula cannot bite; with exact sums no
+ * pairwise (Chan, Golub & LeVeque) combination is needed. A channel whose min equals its max has
+ * variance exactly 0, so methods that ignore the means report a share of exactly 0.
+ *
+ * Monte Carlo error of `overall`: batch means of the ratio computed within each batch (batches
+ * by draw index, see batch-means.ts); 0.5 (the largest sd of a [0, 1] quantity) with fewer than
+ * 2 usable batches.
+ */
+
+export type VarianceChannel = 'mean-only' | 'covariance-only';
+
+const LEVELS = 5;
+const GRID = [2 ** 24, 2 ** -4, 2 ** -32, 2 ** -60, 2 ** -88];
+const INVERSE_GRID = [2 ** -24, 2 ** 4, 2 ** 32, 2 ** 60, 2 ** 88];
+/** Veltkamp splitter 2^27 + 1 for doubles (Dekker 1971). */
+const SPLITTER = 134217729;
+
+export interface MeanDrivenShareSummary {
+  /** Σ_i Var_mean,i / Σ_i (Var_mean,i + Var_cov,i), 0 when the denominator is 0. */
+  readonly overall: number;
+  readonly overallStdErr: number;
+  readonly overallErrorMethod: 'batch-means' | 'bound';
+  /** Batches with ≥ 2 successful draws in both channels (used for the error). */
+  readonly usableBatches: number;
+  readonly perAsset: Float64Array;
+  readonly meanChannelVariance: Float64Array;
+  readonly covarianceChannelVariance: Float64Array;
+  readonly meanChannelDraws: number;
+  readonly covarianceChannelDraws: number;
+  readonly meanChannelFailures: number;
+  readonly covarianceChannelFailures: number;
+}
+
+/** JSON-safe state (min/max hold 0 where a cell has no draw yet). */
+export interface ChannelVarianceState {
+  readonly draws: number;
+  readonly assets: number;
+  readonly status: number[];
+  readonly counts: number[];
+  readonly sumPieces: number[];
+  readonly squarePieces: number[];
+  readonly minimum: number[];
+  readonly maximum: number[];
+}
+
+export class ChannelVarianceAccumulator {
+  readonly draws: number;
+  readonly assets: number;
+  /** Storage batches: batchCount(B), at least 1. */
+  readonly batches: number;
+  /** status[c·B + b] for channel c (0 mean-only, 1 covariance-only). */
+  private readonly status: Uint8Array;
+  /** counts[c·m + k]: successful draws of channel c in batch k. */
+  private readonly counts: Float64Array;
+  /** pieces[((c·m + k)·N + i)·LEVELS + level]. */
+  private readonly sumPieces: Float64Array;
+  private readonly squarePieces: Float64Array;
+  /** minimum[(c·m + k)·N + i]. */
+  private readonly minimum: Float64Array;
+  private readonly maximum: Float64Array;
+
+  constructor(draws: number, assets: number) {
+    checkDrawCount(draws);
+    if (!Number.isInteger(assets) || assets < 1) throw new RangeError(`asset count must be a positive integer, got ${assets}`);
+    this.draws = draws;
+    this.assets = assets;
+    this.batches = Math.max(1, batchCount(draws));
+    const cells = 2 * this.batches * assets;
+    this.status = new Uint8Array(2 * draws);
+    this.counts = new Float64Array(2 * this.batches);
+    this.sumPieces = new Float64Array(cells * LEVELS);
+    this.squarePieces = new Float64Array(cells * LEVELS);
+    this.minimum = new Float64Array(cells).fill(Number.POSITIVE_INFINITY);
+    this.maximum = new Float64Array(cells).fill(Number.NEGATIVE_INFINITY);
+  }
+
+  /** Memory in doubles: 2 channels × batches × N × (2·5 pieces + min + max). */
+  static storedValues(draws: number, assets: number): number {
+    return 2 * Math.max(1, batchCount(draws)) * assets * (2 * LEVELS + 2);
+  }
+
+  /**
+   * Folds draw `drawIndex`'s weights of one channel (weights[offset .. offset + N)). Any
+   * non-finite entry records a failed draw for that channel. Allocation-free; each (draw,
+   * channel) once only.
+   */
+  record(drawIndex: number, channel: VarianceChannel, weights: ArrayLike<number>, offset = 0): void {
+    checkDrawIndex(drawIndex, this.draws);
+    const c = channel === 'mean-only' ? 0 : 1;
+    const slot = c * this.draws + drawIndex;
+    if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} (${channel}) already recorded`);
+    const n = this.assets;
+    for (let i = 0; i < n; i++) {
+      if (!Number.isFinite(weights[offset + i])) {
+        this.status[slot] = DRAW_FAILED;
+        return;
+      }
+    }
+    this.status[slot] = DRAW_SUCCEEDED;
+    const batchCell = c * this.batches + batchOfDraw(this.draws, this.batches, drawIndex);
+    this.counts[batchCell] += 1;
+    const cellBase = batchCell * n;
+    for (let i = 0; i < n; i++) {
+      const w = weights[offset + i];
+      const cell = cellBase + i;
+      if (w < this.minimum[cell]) this.minimum[cell] = w;
+      if (w > this.maximum[cell]) this.maximum[cell] = w;
+      addExact(this.sumPieces, cell * LEVELS, w);
+      // Exact square w² = hi + lo (Dekker's product).
+      const hi = w * w;
+      const lo = productError(w, w, hi);
+      addExact(this.squarePieces, cell * LEVELS, hi);
+      addExact(this.squarePieces, cell * LEVELS, lo);
+    }
+  }
+
+  recordFailure(drawIndex: number, channel: VarianceChannel): void {
+    checkDrawIndex(drawIndex, this.draws);
+    const slot = (channel === 'mean-only' ? 0 : this.draws) + drawIndex;
+    if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} (${channel}) already recorded`);
+    this.status[slot] = DRAW_FAILED;
+  }
+
+  /** Adds another accumulator over disjoint draws (same B and N); exact, so order-free. */
+  merge(other: ChannelVarianceAccumulator): void {
+    if (other.draws !== this.draws || other.assets !== this.assets) {
+      throw new RangeError('cannot merge channel-variance accumulators of different shapes');
+    }
+    mergeDrawStatus(this.status, other.status);
+    for (let s = 0; s < this.status.length; s++) if (other.status[s] !== DRAW_NOT_RECORDED) this.status[s] = other.status[s];
+    for (let k = 0; k < this.counts.length; k++) this.counts[k] += other.counts[k];
+    for (let p = 0; p < this.sumPieces.length; p++) {
+      this.sumPieces[p] += other.sumPieces[p];
+      this.squarePieces[p] += other.squarePieces[p];
+    }
+    for (let cell = 0; cell < this.minimum.length; cell++) {
+      if (other.minimum[cell] < this.minimum[cell]) this.minimum[cell] = other.minimum[cell];
+      if (other.maximum[cell] > this.maximum[cell]) this.maximum[cell] = other.maximum[cell];
+    }
+  }
+
+  summarize(): MeanDrivenShareSummary {
+    const n = this.assets;
+    const m = this.batches;
+    const meanChannelVariance = new Float64Array(n);
+    const covarianceChannelVariance = new Float64Array(n);
+    const perAsset = new Float64Array(n);
+    const totalSum = new Float64Array(LEVELS);
+    const totalSquare = new Float64Array(LEVELS);
+    let numerator = 0;
+    let denominator = 0;
+    for (let c = 0; c < 2; c++) {
+      let count = 0;
+      for (let k = 0; k < m; k++) count += this.counts[c * m + k];
+      const target = c === 0 ? meanChannelVariance : covarianceChannelVariance;
+      for (let i = 0; i < n; i++) {
+        totalSum.fill(0);
+        totalSquare.fill(0);
+        let low = Number.POSITIVE_INFINITY;
+        let high = Number.NEGATIVE_INFINITY;
+        for (let k = 0; k < m; k++) {
+          const cell = (c * m + k) * n + i;
+          for (let level = 0; level < LEVELS; level++) {
+            totalSum[level] += this.sumPieces[cell * LEVELS + level];
+            totalSquare[level] += this.squarePieces[cell * LEVELS + level];
+          }
+          if (this.minimum[cell] < low) low = this.minimum[cell];
+          if (this.maximum[cell] > high) high = this.maximum[cell];
+        }
+        target[i] = varianceFromPieces(count, totalSum, 0, totalSquare, 0, low, high);
+      }
+    }
+    for (let i = 0; i < n; i++) {
+      const vm = meanChannelVariance[i];
+      const vc = covarianceChannelVariance[i];
+      perAsset[i] = shareOf(vm, vc);
+      numerator += vm;
+      denominator += vm + vc;
+    }
+    const overall = denominator > 0 ? numerator / denominator : 0;
+
+    // Batch means of the within-batch ratio.
+    const batchShares = new Float64Array(m);
+    let usableBatches = 0;
+    for (let k = 0; k < m; k++) {
+      const meanCount = this.counts[k];
+      const covarianceCount = this.counts[m + k];
+      if (meanCount < 2 || covarianceCount < 2) {
+        batchShares[k] = Number.NaN;
+        continue;
+      }
+      let batchNumerator = 0;
+      let batchDenominator = 0;
+      for (let i = 0; i < n; i++) {
+        const meanCell = k * n + i;
+        const covarianceCell = (m + k) * n + i;
+        const vm = varianceFromPieces(meanCount, this.sumPieces, meanCell * LEVELS, this.squarePieces, meanCell * LEVELS, this.minimum[meanCell], this.maximum[meanCell]);
+        const vc = varianceFromPieces(
+          covarianceCount,
+          this.sumPieces,
+          covarianceCell * LEVELS,
+          this.squarePieces,
+          covarianceCell * LEVELS,
+          this.minimum[covarianceCell],
+          this.maximum[covarianceCell],
+        );
+        batchNumerator += vm;
+        batchDenominator += vm + vc;
+      }
+      batchShares[k] = batchDenominator > 0 ? batchNumerator / batchDenominator : 0;
+      usableBatches++;
+    }
+    const useBatches = usableBatches >= 2;
+    const meanCounts = this.channelCounts(0);
+    const covarianceCounts = this.channelCounts(1);
+    return {
+      overall,
+      overallStdErr: useBatches ? stdErrOfBatchStatistics(batchShares, m) : UNIT_INTERVAL_MAX_SD,
+      overallErrorMethod: useBatches ? 'batch-means' : 'bound',
+      usableBatches,
+      perAsset,
+      meanChannelVariance,
+      covarianceChannelVariance,
+      meanChannelDraws: meanCounts.succeeded,
+      covarianceChannelDraws: covarianceCounts.succeeded,
+      meanChannelFailures: meanCounts.failed,
+      covarianceChannelFailures: covarianceCounts.failed,
+    };
+  }
+
+  private channelCounts(c: number): { succeeded: number; failed: number } {
+    let succeeded = 0;
+    let failed = 0;
+    for (let b = 0; b < this.draws; b++) {
+      const s = this.status[c * this.draws + b];
+      if (s === DRAW_SUCCEEDED) succeeded++;
+      else if (s === DRAW_FAILED) failed++;
+    }
+    return { succeeded, failed };
+  }
+
+  toState(): ChannelVarianceState {
+    const empty = (value: number): number => (Number.isFinite(value) ? value : 0);
+    return {
+      draws: this.draws,
+      assets: this.assets,
+      status: Array.from(this.status),
+      counts: Array.from(this.counts),
+      sumPieces: Array.from(this.sumPieces),
+      squarePieces: Array.from(this.squarePieces),
+      minimum: Array.from(this.minimum, empty),
+      maximum: Array.from(this.maximum, empty),
+    };
+  }
+
+  static fromState(state: ChannelVarianceState): ChannelVarianceAccumulator {
+    const accumulator = new ChannelVarianceAccumulator(state.draws, state.assets);
+    const sizes: [number, number][] = [
+      [state.status.length, accumulator.status.length],
+      [state.counts.length, accumulator.counts.length],
+      [state.sumPieces.length, accumulator.sumPieces.length],
+      [state.squarePieces.length, accumulator.squarePieces.length],
+      [state.minimum.length, accumulator.minimum.length],
+      [state.maximum.length, accumulator.maximum.length],
+    ];
+    if (sizes.some(([got, want]) => got !== want)) throw new RangeError('channel-variance state has the wrong shape');
+    accumulator.status.set(state.status);
+    accumulator.counts.set(state.counts);
+    accumulator.sumPieces.set(state.sumPieces);
+    accumulator.squarePieces.set(state.squarePieces);
+    const n = accumulator.assets;
+    for (let cell = 0; cell < accumulator.minimum.length; cell++) {
+      const batchCell = Math.floor(cell / n);
+      if (accumulator.counts[batchCell] > 0) {
+        accumulator.minimum[cell] = state.minimum[cell];
+        accumulator.maximum[cell] = state.maximum[cell];
+      }
+    }
+    return accumulator;
+  }
+}
+
+/** Var_mean/(Var_mean + Var_cov), 0 when both are 0. */
+function shareOf(meanVariance: number, covarianceVariance: number): number {
+  const total = meanVariance + covarianceVariance;
+  return total > 0 ? meanVariance / total : 0;
+}
+
+/** Adds `value` to the fixed-grid pieces at pieces[base .. base + LEVELS) without rounding. */
+function addExact(pieces: Float64Array, base: number, value: number): void {
+  let rest = value;
+  for (let level = 0; level < LEVELS; level++) {
+    const piece = Math.round(rest * INVERSE_GRID[level]) * GRID[level];
+    pieces[base + level] += piece;
+    rest -= piece;
+  }
+}
+
+/** Error of the rounded product hi = fl(a·b): a·b = hi + error exactly (Dekker 1971). */
+function productError(a: number, b: number, hi: number): number {
+  const aSplit = SPLITTER * a;
+  const aHigh = aSplit - (aSplit - a);
+  const aLow = a - aHigh;
+  const bSplit = SPLITTER * b;
+  const bHigh = bSplit - (bSplit - b);
+  const bLow = b - bHigh;
+  return aLow * bLow - (((hi - aHigh * bHigh) - aLow * bHigh) - aHigh * bLow);
+}
+
+/** Knuth's TwoSum error: a + b = s + error exactly for s = fl(a + b). */
+function sumError(a: number, b: number, s: number): number {
+  const bVirtual = s - a;
+  const aVirtual = s - bVirtual;
+  return (a - aVirtual) + (b - bVirtual);
+}
+
+// Double-double scratch (module-level so the hot paths allocate nothing).
+let ddHigh = 0;
+let ddLow = 0;
+
+/** Sets (ddHigh, ddLow) to the pieces' total as a double-double, smallest grid first. */
+function piecesToDoubleDouble(pieces: Float64Array, base: number): void {
+  let high = pieces[base + LEVELS - 1];
+  let low = 0;
+  for (let level = LEVELS - 2; level >= 0; level--) {
+    const s = high + pieces[base + level];
+    low += sumError(high, pieces[base + level], s);
+    high = s;
+  }
+  const s = high + low;
+  ddLow = low - (s - high);
+  ddHigh = s;
+}
+
+/**
+ * Sample variance (divisor n − 1) from exact Σw and Σw² pieces: (n·Σw² − (Σw)²) / (n(n − 1)),
+ * the numerator in double-double. Exactly 0 when min = max; NaN when n < 2.
+ */
+function varianceFromPieces(
+  count: number,
+  sumPieces: Float64Array,
+  sumBase: number,
+  squarePieces: Float64Array,
+  squareBase: number,
+  minimum: number,
+  maximum: number,
+): number {
+  if (count < 2) return Number.NaN;
+  if (minimum === maximum) return 0;
+  piecesToDoubleDouble(sumPieces, sumBase);
+  const sumHigh = ddHigh;
+  const sumLow = ddLow;
+  piecesToDoubleDouble(squarePieces, squareBase);
+  const squareHigh = ddHigh;
+  const squareLow = ddLow;
+  // n·Σw² as double-double.
+  const scaledHigh = count * squareHigh;
+  const scaledLow = productError(count, squareHigh, scaledHigh) + count * squareLow;
+  // (Σw)² as double-double.
+  const squaredHigh = sumHigh * sumHigh;
+  const squaredLow = productError(sumHigh, sumHigh, squaredHigh) + 2 * sumHigh * sumLow;
+  const differenceHigh = scaledHigh - squaredHigh;
+  const differenceLow = sumError(scaledHigh, -squaredHigh, differenceHigh) + (scaledLow - squaredLow);
+  const numerator = differenceHigh + differenceLow;
+  return Math.max(0, numerator) / (count * (count - 1));
+}

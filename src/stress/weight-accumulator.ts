@@ -1,0 +1,258 @@
+import {
+  batchCount,
+  batchStart,
+  createQuantileErrorWorkspace,
+  MIN_BATCHES_FOR_QUANTILES,
+  quantileStdErrs,
+  stdErrOfBatchStatistics,
+  stridedMoments,
+} from './batch-means.js';
+import { midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
+import {
+  checkDrawCount,
+  checkDrawIndex,
+  countDraws,
+  DRAW_FAILED,
+  DRAW_NOT_RECORDED,
+  DRAW_SUCCEEDED,
+  mergeDrawStatus,
+  type DrawCounts,
+} from './scalar-accumulator.js';
+
+/**
+ * |w_i| above this counts as "selected": 1e-4 = one basis point of capital, the usual floor
+ * below which a position is treated as absent (common practice). Override per call.
+ */
+export const DEFAULT_SELECTION_THRESHOLD = 1e-4;
+
+/** Doubles a WeightAccumulator keeps: one B × N block (8 bytes each), so callers can bound memory. */
+export function storedValues(draws: number, assets: number): number {
+  return draws * assets;
+}
+
+/** Band statistics of one asset's weight across the successful draws of one method. */
+export interface AssetWeightSummary {
+  readonly mean: number;
+  /** sd / √n of the mean. */
+  readonly meanStdErr: number;
+  /** Sample sd, divisor n − 1. */
+  readonly sd: number;
+  /** Batch-means SE of sd (normal-theory sd/√(2(n−1)) when B < 100), for `max-weight-sd`. */
+  readonly sdStdErr: number;
+  readonly p05: number;
+  readonly p25: number;
+  readonly p50: number;
+  readonly p75: number;
+  readonly p95: number;
+  readonly p05StdErr: number;
+  readonly p95StdErr: number;
+  /** max(p05StdErr, p95StdErr): one error bar for the band's edges. */
+  readonly bandStdErr: number;
+  /** Share of successful draws with |w_i| > threshold. */
+  readonly selectionRate: number;
+  /** √(p(1−p)/(n−1)): sd (divisor n − 1) of the 0/1 indicator over √n. */
+  readonly selectionRateStdErr: number;
+  /** Mid-rank percentile (0..100) of the proposal's weight inside this asset's draws. */
+  readonly proposalPercentile: number;
+  /** sd/√n of the per-draw mid-rank score 100·(1{w < x} + ½·1{w = x}). */
+  readonly proposalPercentileStdErr: number;
+}
+
+export interface WeightSummary extends DrawCounts {
+  readonly perAsset: AssetWeightSummary[];
+  /** Mean weights over the successful draws (the resampled average), per asset. */
+  readonly resampledAverage: Float64Array;
+  readonly selectionThreshold: number;
+  readonly quantileErrorMethod: 'batch-means' | 'order-statistic';
+}
+
+/** JSON-safe state: row-major B × N weights with 0 in rows that did not succeed. */
+export interface WeightAccumulatorState {
+  readonly draws: number;
+  readonly assets: number;
+  readonly status: number[];
+  readonly weights: number[];
+}
+
+const BAND_PROBABILITIES = [0.05, 0.25, 0.5, 0.75, 0.95];
+const EDGE_PROBABILITIES = [0.05, 0.95];
+
+/**
+ * One method's joint-channel weights: slot drawIndex holds w_b (N values) in a row-major
+ * Float64Array of B × N; a row with any non-finite entry is a failed draw (stored as NaN).
+ */
+export class WeightAccumulator {
+  readonly draws: number;
+  readonly assets: number;
+  private readonly weights: Float64Array;
+  private readonly status: Uint8Array;
+
+  constructor(draws: number, assets: number) {
+    checkDrawCount(draws);
+    if (!Number.isInteger(assets) || assets < 1) throw new RangeError(`asset count must be a positive integer, got ${assets}`);
+    this.draws = draws;
+    this.assets = assets;
+    this.weights = new Float64Array(storedValues(draws, assets)).fill(Number.NaN);
+    this.status = new Uint8Array(draws);
+  }
+
+  /**
+   * Stores w_b = weights[offset .. offset + N) in slot drawIndex (copied; no allocation). Any
+   * non-finite entry records a failed draw. Each slot once only.
+   */
+  record(drawIndex: number, weights: ArrayLike<number>, offset = 0): void {
+    checkDrawIndex(drawIndex, this.draws);
+    if (this.status[drawIndex] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
+    const n = this.assets;
+    let finite = true;
+    for (let i = 0; i < n; i++) {
+      if (!Number.isFinite(weights[offset + i])) {
+        finite = false;
+        break;
+      }
+    }
+    if (!finite) {
+      this.status[drawIndex] = DRAW_FAILED;
+      return;
+    }
+    const row = drawIndex * n;
+    for (let i = 0; i < n; i++) this.weights[row + i] = weights[offset + i];
+    this.status[drawIndex] = DRAW_SUCCEEDED;
+  }
+
+  recordFailure(drawIndex: number): void {
+    checkDrawIndex(drawIndex, this.draws);
+    if (this.status[drawIndex] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
+    this.status[drawIndex] = DRAW_FAILED;
+  }
+
+  /** Adds another accumulator's rows (same B and N, disjoint recorded draws). */
+  merge(other: WeightAccumulator): void {
+    if (other.draws !== this.draws || other.assets !== this.assets) {
+      throw new RangeError('cannot merge weight accumulators of different shapes');
+    }
+    mergeDrawStatus(this.status, other.status);
+    const n = this.assets;
+    for (let b = 0; b < this.draws; b++) {
+      if (other.status[b] === DRAW_NOT_RECORDED) continue;
+      this.status[b] = other.status[b];
+      this.weights.set(other.weights.subarray(b * n, (b + 1) * n), b * n);
+    }
+  }
+
+  counts(): DrawCounts {
+    return countDraws(this.status);
+  }
+
+  /** The B × N block (NaN rows = failed or not recorded), e.g. for risk contributions per draw. */
+  rows(): Float64Array {
+    return this.weights;
+  }
+
+  /**
+   * Per-asset band statistics. `proposal` holds the proposal's weights (N) whose mid-rank
+   * percentile is reported; `selectionThreshold` defaults to 1e-4.
+   */
+  summarize(proposal: ArrayLike<number>, selectionThreshold = DEFAULT_SELECTION_THRESHOLD): WeightSummary {
+    if (proposal.length < this.assets) throw new RangeError(`proposal has ${proposal.length} weights, need ${this.assets}`);
+    const n = this.assets;
+    const B = this.draws;
+    const workspace = createQuantileErrorWorkspace(B);
+    const bands = new Float64Array(BAND_PROBABILITIES.length);
+    const edgeErrors = new Float64Array(EDGE_PROBABILITIES.length);
+    const resampledAverage = new Float64Array(n);
+    const perAsset: AssetWeightSummary[] = [];
+    let quantileErrorMethod: 'batch-means' | 'order-statistic' = 'order-statistic';
+    for (let i = 0; i < n; i++) {
+      const moments = stridedMoments(this.weights, i, n, B);
+      // Selection rate, read before the sort reuses the scratch buffer.
+      let selected = 0;
+      for (let b = 0, at = i; b < B; b++, at += n) {
+        if (Math.abs(this.weights[at]) > selectionThreshold) selected++; // NaN compares false
+      }
+      const m = quantilesOfStrided(this.weights, i, n, B, BAND_PROBABILITIES, workspace.sort, bands);
+      const proposalPercentile = midRankPercentileSorted(workspace.sort, m, proposal[i]);
+      const proposalPercentileStdErr = midRankStdErr(workspace.sort, m, proposal[i]);
+      quantileErrorMethod = quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
+      const selectionRate = m > 0 ? selected / m : Number.NaN;
+      resampledAverage[i] = moments.mean;
+      perAsset.push({
+        mean: moments.mean,
+        meanStdErr: moments.stdErr,
+        sd: moments.sd,
+        sdStdErr: this.sdStdErr(i, moments.sd, moments.count, workspace.batch),
+        p05: bands[0],
+        p25: bands[1],
+        p50: bands[2],
+        p75: bands[3],
+        p95: bands[4],
+        p05StdErr: edgeErrors[0],
+        p95StdErr: edgeErrors[1],
+        bandStdErr: Math.max(edgeErrors[0], edgeErrors[1]),
+        selectionRate,
+        selectionRateStdErr: m > 1 ? Math.sqrt((selectionRate * (1 - selectionRate)) / (m - 1)) : Number.NaN,
+        proposalPercentile,
+        proposalPercentileStdErr,
+      });
+    }
+    return { ...this.counts(), perAsset, resampledAverage, selectionThreshold, quantileErrorMethod };
+  }
+
+  /**
+   * SE of the weight sd: batch means of the per-batch sd when there are ≥ 10 batches; otherwise
+   * the normal-theory approximation sd/√(2(n−1)) (e.g. Kendall & Stuart, Advanced Theory of
+   * Statistics; from memory).
+   */
+  private sdStdErr(asset: number, sd: number, count: number, batchScratch: Float64Array): number {
+    const B = this.draws;
+    const batches = batchCount(B);
+    if (batches < MIN_BATCHES_FOR_QUANTILES) return count > 1 ? sd / Math.sqrt(2 * (count - 1)) : Number.NaN;
+    const n = this.assets;
+    for (let k = 0; k < batches; k++) {
+      const from = batchStart(B, batches, k);
+      const to = batchStart(B, batches, k + 1);
+      batchScratch[k] = stridedMoments(this.weights, from * n + asset, n, to - from).sd;
+    }
+    return stdErrOfBatchStatistics(batchScratch, batches);
+  }
+
+  toState(): WeightAccumulatorState {
+    const weights: number[] = new Array<number>(this.weights.length);
+    const n = this.assets;
+    for (let b = 0; b < this.draws; b++) {
+      const ok = this.status[b] === DRAW_SUCCEEDED;
+      for (let i = 0; i < n; i++) weights[b * n + i] = ok ? this.weights[b * n + i] : 0;
+    }
+    return { draws: this.draws, assets: n, status: Array.from(this.status), weights };
+  }
+
+  static fromState(state: WeightAccumulatorState): WeightAccumulator {
+    const accumulator = new WeightAccumulator(state.draws, state.assets);
+    if (state.status.length !== state.draws || state.weights.length !== state.draws * state.assets) {
+      throw new RangeError('weight accumulator state has the wrong length');
+    }
+    for (let b = 0; b < state.draws; b++) {
+      if (state.status[b] === DRAW_SUCCEEDED) accumulator.record(b, state.weights, b * state.assets);
+      else if (state.status[b] === DRAW_FAILED) accumulator.recordFailure(b);
+    }
+    return accumulator;
+  }
+}
+
+/**
+ * sd/√n of the mid-rank score s_b = 100·(1{w_b < x} + ½·1{w_b = x}) over n sorted draws:
+ * with a draws below and e equal, Σs = 100(a + e/2) and Σs² = 100²(a + e/4).
+ */
+function midRankStdErr(sorted: Float64Array, n: number, x: number): number {
+  if (n < 2 || Number.isNaN(x)) return Number.NaN;
+  let below = 0;
+  let equal = 0;
+  for (let k = 0; k < n; k++) {
+    if (sorted[k] < x) below++;
+    else if (sorted[k] === x) equal++;
+  }
+  const mean = (100 * (below + 0.5 * equal)) / n;
+  const meanSquare = (100 * 100 * (below + 0.25 * equal)) / n;
+  const variance = Math.max(0, ((meanSquare - mean * mean) * n) / (n - 1));
+  return Math.sqrt(variance / n);
+}
