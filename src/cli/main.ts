@@ -1,7 +1,17 @@
 import { parseArgs } from 'node:util';
 import demoProposal from '../../schemas/examples/demo-proposal.json';
 import { summarise } from '../http/problem.js';
-import { validateProposal } from '../schema/validate.js';
+import { renderReportHtml } from '../render/html.js';
+import { renderVerdictJunit } from '../render/junit.js';
+import { renderReportMarkdown } from '../render/markdown.js';
+import { renderOptimizeTable, renderReportTable } from '../render/table.js';
+import { problemsFromZod } from '../schema/problems.js';
+import { PolicySchema, type Policy, type Proposal } from '../schema/proposal.js';
+import type { Report } from '../schema/report.js';
+import { validateProposal, type Warning } from '../schema/validate.js';
+import { resolveBaseline } from '../stress/baseline.js';
+import { classifyError } from '../stress/errors.js';
+import { checkProposal, optimizeProposal, stressProposal, type RunOptions } from '../stress/run.js';
 import { VERSION } from '../version.js';
 import { EXIT, parseJson, readInput, UsageError, writeOutput } from './io.js';
 
@@ -30,13 +40,21 @@ stderr and exits 2. "-" reads standard input.`,
 Prints the built-in demo proposal (an invented pension-fund scenario) as JSON.`,
   optimize: `wobble optimize <file|-> [--format json|table]
 
-Solves every requested method on the unperturbed inputs.`,
+Solves every requested method (the proposal's method and compare, default all six) on the
+unperturbed inputs and prints weights, expected return, volatility, risk contributions and
+solver diagnostics. --format json (default) or table. --out FILE writes to a file.`,
   stress: `wobble stress <file|-> [--draws N] [--seed S] [--format json|markdown|html|table] [--out FILE]
 
-Resamples the inputs, re-optimises every method on every draw and reports stability.`,
+Resamples the inputs (bootstrap of the history, or parameter noise for moments), re-optimises
+every method on every draw and reports weight bands, turnover, volatility, mean-driven share and
+certainty-equivalent loss with Monte Carlo errors. --draws and --seed override the proposal's
+resampling settings; the same proposal and seed give the same report. A progress bar is shown on
+a terminal. --format json (default), markdown, html or table; --out FILE.`,
   check: `wobble check <file|-> --policy FILE [--baseline FILE] [--format json|markdown|junit]
 
-Stresses the proposal and judges it against the policy's rules.
+Stresses the proposal and judges it against the policy's rules (--policy FILE, or the proposal's
+own policy). --baseline FILE is an earlier report, or an earlier proposal stressed now with the
+same seed, for maxIncrease rules. --format json (default), markdown or junit; --out FILE.
 Exit 0 pass, 1 gate failed, 2 input or usage error.`,
 };
 
@@ -77,10 +95,144 @@ export async function main(argv: string[]): Promise<number> {
       return EXIT.ok;
     case 'validate':
       return validateCommand(requireFile(positionals, command));
+    case 'optimize':
+      return optimizeCommand(requireFile(positionals, command), values);
+    case 'stress':
+      return stressCommand(requireFile(positionals, command), values);
+    case 'check':
+      return checkCommand(requireFile(positionals, command), values);
     default:
-      process.stderr.write(`wobble ${command}: not built yet in this version\n`);
-      return EXIT.usage;
+      throw new UsageError(`unknown command "${command}"`);
   }
+}
+
+type Options = { format?: string; out?: string; draws?: string; seed?: string; policy?: string; baseline?: string };
+
+function requireFormat(format: string | undefined, allowed: string[], fallback: string): string {
+  const f = format ?? fallback;
+  if (!allowed.includes(f)) throw new UsageError(`--format must be one of ${allowed.join(', ')}, got "${f}"`);
+  return f;
+}
+
+/** Reads and validates a proposal; prints problems and returns undefined when invalid. */
+function loadProposal(file: string): { proposal: Proposal; warnings: Warning[] } | undefined {
+  const source = file === '-' ? 'stdin' : file;
+  const validation = validateProposal(parseJson(readInput(file), source));
+  if (!validation.ok) {
+    process.stderr.write(`${source}: ${validation.problems.length} problem${validation.problems.length === 1 ? '' : 's'}\n${summarise(validation.problems)}\n`);
+    return undefined;
+  }
+  return { proposal: validation.proposal, warnings: validation.warnings };
+}
+
+/** Runs the core; a limit or an unsolvable problem is an input error (exit 2) with the reason. */
+async function guarded(run: () => Promise<number>): Promise<number> {
+  try {
+    return await run();
+  } catch (e) {
+    const known = classifyError(e);
+    if (!known) throw e;
+    process.stderr.write(`wobble: ${known.status === 413 ? 'over a limit' : 'cannot be solved'}: ${known.detail}\n`);
+    return EXIT.usage;
+  }
+}
+
+function runOptions(values: Options, proposal: Proposal): RunOptions {
+  let draws: number | undefined;
+  if (values.draws !== undefined) {
+    draws = Number(values.draws);
+    if (!Number.isInteger(draws) || draws < 1) throw new UsageError(`--draws must be a positive integer, got "${values.draws}"`);
+  }
+  const seed = values.seed === undefined ? undefined : /^-?\d+$/.test(values.seed) ? Number(values.seed) : values.seed;
+  return { draws: draws ?? proposal.resampling?.draws, seed: seed ?? proposal.resampling?.seed, clock: () => performance.now(), onProgress: progressBar() };
+}
+
+/** A progress bar on stderr when it is a terminal (never in pipes or CI logs). */
+function progressBar(): ((done: number, total: number) => void) | undefined {
+  if (!process.stderr.isTTY) return undefined;
+  let last = -1;
+  return (done, total) => {
+    const pct = Math.floor((100 * done) / total);
+    if (pct === last) return;
+    last = pct;
+    const width = 30;
+    const filled = Math.round((width * done) / total);
+    process.stderr.write(`\r[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${pct}% (${done}/${total} draws)`);
+    if (done === total) process.stderr.write('\r' + ' '.repeat(width + 30) + '\r');
+  };
+}
+
+async function optimizeCommand(file: string, values: Options): Promise<number> {
+  const format = requireFormat(values.format, ['json', 'table'], 'json');
+  const loaded = loadProposal(file);
+  if (!loaded) return EXIT.usage;
+  return guarded(async () => {
+    const result = await optimizeProposal(loaded.proposal, loaded.warnings, () => performance.now());
+    writeOutput(format === 'table' ? renderOptimizeTable(result) : JSON.stringify(result, null, 2) + '\n', values.out);
+    return EXIT.ok;
+  });
+}
+
+function renderReport(report: Report, format: string): string {
+  switch (format) {
+    case 'table':
+      return renderReportTable(report);
+    case 'markdown':
+      return renderReportMarkdown(report);
+    case 'html':
+      return renderReportHtml(report);
+    case 'junit':
+      return renderVerdictJunit(report);
+    default:
+      return JSON.stringify(report, null, 2) + '\n';
+  }
+}
+
+async function stressCommand(file: string, values: Options): Promise<number> {
+  const format = requireFormat(values.format, ['json', 'markdown', 'html', 'table'], 'json');
+  const loaded = loadProposal(file);
+  if (!loaded) return EXIT.usage;
+  return guarded(async () => {
+    const report = await stressProposal(loaded.proposal, loaded.warnings, runOptions(values, loaded.proposal));
+    writeOutput(renderReport(report, format), values.out);
+    return EXIT.ok;
+  });
+}
+
+async function checkCommand(file: string, values: Options): Promise<number> {
+  const format = requireFormat(values.format, ['json', 'markdown', 'junit', 'table', 'html'], 'json');
+  const loaded = loadProposal(file);
+  if (!loaded) return EXIT.usage;
+  let policy = loaded.proposal.policy;
+  if (values.policy) {
+    const parsed = PolicySchema.safeParse(parseJson(readInput(values.policy), values.policy));
+    if (!parsed.success) {
+      process.stderr.write(`${values.policy}: invalid policy\n${summarise(problemsFromZod(parsed.error.issues))}\n`);
+      return EXIT.usage;
+    }
+    policy = parsed.data;
+  }
+  if (!policy) throw new UsageError('wobble check needs --policy FILE (or a policy inside the proposal)');
+  const options = runOptions(values, loaded.proposal);
+  return guarded(async () => {
+    let baseline;
+    if (values.baseline) {
+      const resolved = await resolveBaseline(parseJson(readInput(values.baseline), values.baseline), { ...options, onProgress: undefined });
+      if (!resolved.ok) {
+        process.stderr.write(`${values.baseline}: invalid baseline\n${summarise(resolved.problems)}\n`);
+        return EXIT.usage;
+      }
+      baseline = resolved.report;
+    }
+    const report = await checkProposal(loaded.proposal, loaded.warnings, policy as Policy, baseline, options);
+    writeOutput(renderReport(report, format), values.out);
+    const verdict = report.verdict;
+    if (verdict && !verdict.pass) {
+      process.stderr.write(`gate FAILED: ${verdict.rules.filter((r) => !r.pass).map((r) => r.id).join(', ')}\n`);
+      return EXIT.gateFailed;
+    }
+    return EXIT.ok;
+  });
 }
 
 function requireFile(positionals: string[], command: string): string {

@@ -1,11 +1,17 @@
 import { Hono } from 'hono';
 import demoProposal from '../../schemas/examples/demo-proposal.json';
-import { CAUTIONS } from '../schema/cautions.js';
 import { jsonSchema, SCHEMA_NAMES, type SchemaName } from '../schema/json-schema.js';
-import { statusFor } from '../schema/problems.js';
+import { CheckRequestSchema } from '../schema/check.js';
+import { problem, problemsFromZod, statusFor, type Problem } from '../schema/problems.js';
+import { renderReportHtml } from '../render/html.js';
+import { renderReportMarkdown } from '../render/markdown.js';
+import { renderPage } from '../render/page.js';
+import { resolveBaseline } from '../stress/baseline.js';
+import { classifyError } from '../stress/errors.js';
+import { checkProposal, optimizeProposal, stressProposal } from '../stress/run.js';
 import { validateProposal } from '../schema/validate.js';
 import { VERSION } from '../version.js';
-import { readJsonBody } from './body.js';
+import { readJsonBody, type BodyResult } from './body.js';
 import { openApiDocument } from './openapi.js';
 import { problemResponse, summarise } from './problem.js';
 
@@ -17,6 +23,7 @@ import { problemResponse, summarise } from './problem.js';
 export function createApp(): Hono {
   const app = new Hono();
 
+  app.get('/', (c) => c.html(renderPage()));
   app.get('/healthz', (c) => c.json({ status: 'ok', version: VERSION }));
   app.get('/openapi.json', (c) => c.json(openApiDocument()));
   app.get('/v1/examples/demo', (c) => c.json(demoProposal));
@@ -28,16 +35,49 @@ export function createApp(): Hono {
     return c.json(jsonSchema(name as SchemaName));
   });
 
-  const notYet = (what: string) => async (c: { req: { raw: Request } }) => {
+  app.post('/v1/optimize', async (c) => {
     const body = await readJsonBody(c.req.raw);
-    if (!body.ok) return problemResponse(body.status, body.detail, body.errors ? { errors: body.errors } : {});
+    if (!body.ok) return bodyProblem(body);
     const validation = validateProposal(body.value);
     if (!validation.ok) return invalid(validation.problems);
-    return problemResponse(501, `${what} is not built yet in this version; the proposal is valid.`, { cautions: CAUTIONS });
-  };
-  app.post('/v1/optimize', notYet('POST /v1/optimize'));
-  app.post('/v1/stress', notYet('POST /v1/stress'));
-  app.post('/v1/check', notYet('POST /v1/check'));
+    return respond(async () => c.json(await optimizeProposal(validation.proposal, validation.warnings, clock)));
+  });
+
+  app.post('/v1/stress', async (c) => {
+    const format = c.req.query('format') ?? 'json';
+    if (!['json', 'html', 'markdown'].includes(format)) return problemResponse(400, `unknown format "${format}"; expected json, html or markdown`);
+    const body = await readJsonBody(c.req.raw);
+    if (!body.ok) return bodyProblem(body);
+    const validation = validateProposal(body.value);
+    if (!validation.ok) return invalid(validation.problems);
+    return respond(async () => {
+      const report = await stressProposal(validation.proposal, validation.warnings, { clock });
+      if (format === 'html') return c.html(renderReportHtml(report));
+      if (format === 'markdown') return c.text(renderReportMarkdown(report), 200, { 'content-type': 'text/markdown; charset=utf-8' });
+      return c.json(report);
+    });
+  });
+
+  app.post('/v1/check', async (c) => {
+    const body = await readJsonBody(c.req.raw);
+    if (!body.ok) return bodyProblem(body);
+    const envelope = CheckRequestSchema.safeParse(body.value);
+    if (!envelope.success) return invalid(problemsFromZod(envelope.error.issues));
+    const validation = validateProposal(envelope.data.proposal);
+    if (!validation.ok) return invalid(validation.problems.map((p) => prefixProblem(p, 'proposal')));
+    const policy = envelope.data.policy ?? validation.proposal.policy;
+    if (!policy) return invalid([problem(['policy'], 'required field missing: a policy here or in proposal.policy')]);
+    return respond(async () => {
+      const options = { clock, seed: validation.proposal.resampling?.seed, draws: validation.proposal.resampling?.draws };
+      let baseline;
+      if (envelope.data.baseline !== undefined) {
+        const resolved = await resolveBaseline(envelope.data.baseline, options);
+        if (!resolved.ok) return invalid(resolved.problems);
+        baseline = resolved.report;
+      }
+      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, options));
+    });
+  });
 
   app.notFound((c) => problemResponse(404, `no route for ${c.req.method} ${new URL(c.req.url).pathname}`));
   app.onError((err) => {
@@ -47,6 +87,28 @@ export function createApp(): Hono {
   });
   return app;
 }
+
+function bodyProblem(body: Extract<BodyResult, { ok: false }>): Response {
+  return problemResponse(body.status, body.detail, body.errors ? { errors: body.errors } : {});
+}
+
+/** Runs the core; typed failures become 413/422 problem+json, anything else propagates to onError (500, a bug). */
+async function respond(run: () => Promise<Response>): Promise<Response> {
+  try {
+    return await run();
+  } catch (e) {
+    const known = classifyError(e);
+    if (!known) throw e;
+    return problemResponse(known.status, known.detail, known.path ? { errors: [problem(known.path, known.detail, known.status === 413 ? 'limit' : 'unsolvable')] } : {});
+  }
+}
+
+function prefixProblem(p: Problem, prefix: string): Problem {
+  return { ...p, path: p.path ? `${prefix}.${p.path}` : prefix, pointer: `/${prefix}${p.pointer}` };
+}
+
+/** Wall-clock milliseconds for meta.elapsedMs only (never used to bound work). */
+const clock = (): number => Date.now();
 
 export function invalid(problems: Parameters<typeof statusFor>[0]): Response {
   const status = statusFor(problems);

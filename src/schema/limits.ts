@@ -20,6 +20,11 @@ export const LIMITS = {
    * machines this was measured on; see DEVELOPERS.md.
    */
   maxWorkUnits: 3e10,
+  /**
+   * Numbers kept in memory for exact percentiles: draws × assets × (methods + 1), 8 bytes each.
+   * 6e6 is 48 MB, leaving room in a 128 MB Workers isolate.
+   */
+  maxStoredValues: 6e6,
 } as const;
 
 /** Tolerances used by validation, stated once so the README and errors can quote them. */

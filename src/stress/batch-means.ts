@@ -32,7 +32,7 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'full-sample statistic. With fewer than 10 batches (B < 100), percentile errors use the ' +
   'order-statistic interval (ranks nq -/+ 1.96 sqrt(nq(1-q)), half-width / 1.96) and the mean-driven ' +
   'share error uses batch means if at least 2 batches exist, else the conservative bound 0.5. ' +
-  'Errors that cannot be estimated (fewer than 2 successful draws) are null.';
+  'Errors that cannot be estimated (fewer than 2 successful draws) are reported as 0, with a warning about too few draws.';
 
 /** At most this many batches (the design asks for 20–50 when B allows). */
 export const MAX_BATCHES = 30;

@@ -1,5 +1,8 @@
 import { spawnSync } from 'node:child_process';
-import { readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { historyProposal, momentsProposal } from '../helpers/proposals.js';
 import { describe, expect, it } from 'vitest';
 
 // Runs the CLI as a user does (npm run -s wobble -- …) to check exit codes and streams.
@@ -29,6 +32,44 @@ describe('wobble CLI', () => {
     expect(wobble(['validate', 'no-such-file.json']).code).toBe(2);
     expect(wobble(['validate', '-'], '{not json').code).toBe(2);
     expect(wobble(['validate', '--bogus']).code).toBe(2);
+  });
+
+  it('optimize prints JSON or a table', () => {
+    const json = wobble(['optimize', '-'], JSON.stringify(momentsProposal()));
+    expect(json.code).toBe(0);
+    expect(JSON.parse(json.stdout).methods).toHaveLength(6);
+    const table = wobble(['optimize', '-', '--format', 'table'], JSON.stringify(momentsProposal()));
+    expect(table.stdout).toContain('minimum-variance');
+    expect(wobble(['optimize', '-', '--format', 'yaml'], JSON.stringify(momentsProposal())).code).toBe(2);
+  });
+
+  it('stress honours --draws and --seed, writes --out, and is deterministic', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'wobble-'));
+    const out = join(dir, 'r.json');
+    const a = wobble(['stress', '-', '--draws', '40', '--seed', 's1', '--out', out], JSON.stringify(historyProposal()));
+    expect(a.code).toBe(0);
+    const r = JSON.parse(readFileSync(out, 'utf8'));
+    expect(r.meta.drawsRequested).toBe(40);
+    expect(r.meta.seed).toBe('s1');
+    const b = JSON.parse(wobble(['stress', '-', '--draws', '40', '--seed', 's1'], JSON.stringify(historyProposal())).stdout);
+    expect({ ...b, meta: { ...b.meta, elapsedMs: 0 } }).toEqual({ ...r, meta: { ...r.meta, elapsedMs: 0 } });
+    expect(wobble(['stress', '-', '--draws', 'x'], JSON.stringify(historyProposal())).code).toBe(2);
+  });
+
+  it('check exits 0 when the gate passes, 1 when it fails (JUnit on request), 2 for a bad policy', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'wobble-'));
+    const policy = join(dir, 'policy.json');
+    writeFileSync(policy, JSON.stringify({ rules: [{ metric: 'turnover-from-proposal.p50', max: 1 }] }));
+    expect(wobble(['check', '-', '--policy', policy, '--draws', '40'], JSON.stringify(historyProposal())).code).toBe(0);
+    writeFileSync(policy, JSON.stringify({ rules: [{ metric: 'turnover-from-proposal.p50', max: 0 }] }));
+    const fail = wobble(['check', '-', '--policy', policy, '--draws', '40', '--format', 'junit'], JSON.stringify(historyProposal()));
+    expect(fail.code).toBe(1);
+    expect(fail.stdout).toContain('<testcase');
+    expect(fail.stdout).toContain('<failure');
+    writeFileSync(policy, JSON.stringify({ rules: [{ metric: 'unknown', max: 0 }] }));
+    const bad = wobble(['check', '-', '--policy', policy], JSON.stringify(historyProposal()));
+    expect(bad.code).toBe(2);
+    expect(bad.stderr).toContain('rules[0].metric');
   });
 
   it('--help on every command', () => {

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { createApp } from '../../src/http/app.js';
 import { LIMITS } from '../../src/schema/limits.js';
-import { demoProposal, momentsProposal } from '../helpers/proposals.js';
+import { ReportSchema } from '../../src/schema/report.js';
+import { demoProposal, historyProposal, momentsProposal } from '../helpers/proposals.js';
 
 const app = createApp();
 const post = (path: string, body: unknown, headers: Record<string, string> = { 'content-type': 'application/json' }) =>
@@ -55,6 +56,66 @@ describe('HTTP routes (Hono app.request, no server)', () => {
     const res = await post('/v1/stress', momentsProposal({ resampling: { draws: LIMITS.maxDraws + 1, seed: 1 } }));
     expect(res.status).toBe(413);
     expect(((await res.json()) as { detail: string }).detail).toContain(String(LIMITS.maxDraws));
+  });
+
+  it('POST /v1/optimize returns every method with its base optimum', async () => {
+    const res = await post('/v1/optimize', momentsProposal());
+    expect(res.status).toBe(200);
+    const body = (await res.json()) as { methods: { method: { name: string }; base: { weights: number[] } }[]; cautions: string[] };
+    expect(body.methods).toHaveLength(6);
+    expect(body.methods[0].method.name).toBe('mean-variance');
+    expect(body.cautions.length).toBeGreaterThan(0);
+  });
+
+  it('POST /v1/stress returns a schema-valid report, and HTML or markdown on request', async () => {
+    const res = await post('/v1/stress', historyProposal());
+    expect(res.status).toBe(200);
+    const report = ReportSchema.parse(await res.json());
+    expect(report.meta.drawsRequested).toBe(120);
+    const html = await post('/v1/stress?format=html', historyProposal());
+    expect(html.headers.get('content-type')).toContain('text/html');
+    expect(await html.text()).toContain('<html');
+    const md = await post('/v1/stress?format=markdown', historyProposal());
+    expect(await md.text()).toMatch(/^#/m);
+    expect((await post('/v1/stress?format=pdf', historyProposal())).status).toBe(400);
+  });
+
+  it('POST /v1/check answers 200 with a verdict whether the gate passes or fails', async () => {
+    const pass = await post('/v1/check', { proposal: historyProposal(), policy: { rules: [{ metric: 'turnover-from-proposal.p50', max: 1 }] } });
+    expect(pass.status).toBe(200);
+    expect(((await pass.json()) as { verdict: { pass: boolean } }).verdict.pass).toBe(true);
+    const fail = await post('/v1/check', { proposal: historyProposal(), policy: { rules: [{ metric: 'turnover-from-proposal.p50', max: 0 }] } });
+    expect(fail.status).toBe(200);
+    expect(((await fail.json()) as { verdict: { pass: boolean } }).verdict.pass).toBe(false);
+  });
+
+  it('POST /v1/check names bad fields under proposal and policy, and accepts a proposal as baseline', async () => {
+    const bad = await post('/v1/check', { proposal: { ...historyProposal(), weights: [1] }, policy: { rules: [{ metric: 'nope', max: 1 }] } });
+    expect(bad.status).toBe(400);
+    const errors = ((await bad.json()) as { errors: { path: string }[] }).errors.map((e) => e.path);
+    expect(errors).toContain('policy.rules[0].metric');
+    const badProposal = await post('/v1/check', { proposal: { ...historyProposal(), weights: [1] }, policy: { rules: [{ metric: 'max-weight-sd', max: 1 }] } });
+    expect(((await badProposal.json()) as { errors: { path: string }[] }).errors[0].path).toBe('proposal.weights');
+    const withBaseline = await post('/v1/check', {
+      proposal: historyProposal(),
+      baseline: historyProposal(),
+      policy: { rules: [{ metric: 'max-weight-sd', maxIncrease: 0 }] },
+    });
+    expect(withBaseline.status).toBe(200);
+    const verdict = ((await withBaseline.json()) as { verdict: { pass: boolean; rules: { value: number }[] } }).verdict;
+    // Same proposal, same seed: common random numbers make the change exactly 0.
+    expect(verdict.rules[0].value).toBe(0);
+    expect(verdict.pass).toBe(true);
+    const noBaseline = await post('/v1/check', { proposal: historyProposal(), policy: { rules: [{ metric: 'max-weight-sd', maxIncrease: 0 }] } });
+    expect(noBaseline.status).toBe(422);
+  });
+
+  it('GET / serves the reviewer page with the cautions', async () => {
+    const res = await app.request('/');
+    expect(res.status).toBe(200);
+    const html = await res.text();
+    expect(html).toContain('id="proposal"');
+    expect(html).toMatch(/not investment advice/i);
   });
 
   it('422 for infeasible constraints', async () => {

@@ -30,6 +30,20 @@ describe('the Worker in the Workers runtime', () => {
     expect(body.errors.map((e) => e.path)).toContain('weights');
   });
 
+  it('stresses the demo inside workerd', async () => {
+    const demo = (await (await SELF.fetch('http://wobble.test/v1/examples/demo')).json()) as Record<string, unknown>;
+    const res = await SELF.fetch('http://wobble.test/v1/stress', {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ ...demo, resampling: { draws: 30, seed: 'worker' } }),
+    });
+    expect(res.status).toBe(200);
+    const report = (await res.json()) as { meta: { drawsCompleted: number }; methods: unknown[]; cautions: string[] };
+    expect(report.meta.drawsCompleted).toBe(30);
+    expect(report.methods).toHaveLength(6);
+    expect(report.cautions.length).toBeGreaterThan(0);
+  });
+
   it('answers malformed JSON with 400', async () => {
     const res = await SELF.fetch('http://wobble.test/v1/stress', { method: 'POST', headers: { 'content-type': 'application/json' }, body: '{"assets": [' });
     expect(res.status).toBe(400);

@@ -1,0 +1,241 @@
+/**
+ * Dense kernels on row-major Float64Array matrices.
+ *
+ * Every kernel that works on a (sub)matrix takes a leading dimension `ld` (the row stride), so a
+ * k×k factor can live inside a larger n×n buffer and grow or shrink without reallocation — the
+ * active-set QP solver keeps its reduced Cholesky factor that way. Only the lower triangle of a
+ * Cholesky factor is meaningful; kernels never read the strict upper triangle of L.
+ *
+ * Algorithms: Golub & Van Loan, Matrix Computations (4th ed.): Cholesky §4.2 (Alg. 4.2.1, the
+ * row-oriented "dot product" form), triangular solves §3.1, rank-one update of a Cholesky factor
+ * §6.5.4 (Givens-style, stable because nothing is subtracted).
+ */
+
+/** Thrown when a matrix that must be symmetric positive definite has a non-positive pivot. */
+export class NotPositiveDefiniteError extends Error {
+  constructor(
+    /** Row/column (0-based) at which elimination met the non-positive pivot. */
+    readonly pivotIndex: number,
+    /** The value the pivot had before the square root (≤ the accepted minimum). */
+    readonly pivotValue: number,
+  ) {
+    super(`matrix is not positive definite: pivot ${pivotIndex} is ${pivotValue}`);
+    this.name = 'NotPositiveDefiniteError';
+  }
+}
+
+/**
+ * Cholesky factorisation A = L Lᵀ of the leading n×n block of `a` (lower triangle read).
+ * L is written into the lower triangle of `out` (which may be `a`); the strict upper triangle of
+ * `out` is left untouched. A pivot (the Schur complement a_jj − Σ l_jk² before the square root)
+ * must exceed `minPivotRelative · a_jj` (and 0); the first that does not is returned.
+ *
+ * @returns −1 on success, otherwise the 0-based index of the failing pivot (then `out` is
+ *   partially overwritten). The failing pivot value is left in `out[j·ld + j]`.
+ */
+export function choleskyDecompose(
+  a: Float64Array,
+  n: number,
+  out: Float64Array = a,
+  ld: number = n,
+  minPivotRelative = 0,
+): number {
+  for (let j = 0; j < n; j++) {
+    const rowJ = j * ld;
+    // Row j of L, left of the diagonal: l_jk = (a_jk − Σ_{m<k} l_jm l_km) / l_kk.
+    for (let k = 0; k < j; k++) {
+      const rowK = k * ld;
+      let s = a[rowJ + k];
+      for (let m = 0; m < k; m++) s -= out[rowJ + m] * out[rowK + m];
+      out[rowJ + k] = s / out[rowK + k];
+    }
+    const ajj = a[rowJ + j];
+    let d = ajj;
+    for (let m = 0; m < j; m++) {
+      const l = out[rowJ + m];
+      d -= l * l;
+    }
+    if (!(d > 0) || d <= minPivotRelative * Math.abs(ajj)) {
+      out[rowJ + j] = d;
+      return j;
+    }
+    out[rowJ + j] = Math.sqrt(d);
+  }
+  return -1;
+}
+
+/** Cholesky factor of an SPD n×n matrix into a new buffer; throws NotPositiveDefiniteError. */
+export function choleskyOrThrow(a: Float64Array, n: number, minPivotRelative = 0): Float64Array {
+  const out = new Float64Array(n * n);
+  const failed = choleskyDecompose(a, n, out, n, minPivotRelative);
+  if (failed >= 0) throw new NotPositiveDefiniteError(failed, out[failed * n + failed]);
+  // Zero the strict upper triangle so the result is a clean lower-triangular matrix.
+  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) out[i * n + j] = 0;
+  return out;
+}
+
+/** Solves L y = b in place (b ← y) for the lower-triangular leading n×n block of `l`. */
+export function solveLowerInPlace(l: Float64Array, n: number, b: Float64Array, ld: number = n): Float64Array {
+  for (let i = 0; i < n; i++) {
+    const row = i * ld;
+    let s = b[i];
+    for (let k = 0; k < i; k++) s -= l[row + k] * b[k];
+    b[i] = s / l[row + i];
+  }
+  return b;
+}
+
+/** Solves Lᵀ x = y in place (y ← x) for the lower-triangular leading n×n block of `l`. */
+export function solveLowerTransposeInPlace(l: Float64Array, n: number, y: Float64Array, ld: number = n): Float64Array {
+  // Column-oriented back substitution: after x_i is known, remove its contribution from rows < i.
+  for (let i = n - 1; i >= 0; i--) {
+    const row = i * ld;
+    const xi = y[i] / l[row + i];
+    y[i] = xi;
+    for (let k = 0; k < i; k++) y[k] -= l[row + k] * xi;
+  }
+  return y;
+}
+
+/** Solves (L Lᵀ) x = b in place given the Cholesky factor L. */
+export function choleskySolveInPlace(l: Float64Array, n: number, b: Float64Array, ld: number = n): Float64Array {
+  solveLowerInPlace(l, n, b, ld);
+  return solveLowerTransposeInPlace(l, n, b, ld);
+}
+
+/** Solves A x = b for SPD A (n×n); allocates. Throws NotPositiveDefiniteError. */
+export function solveSpd(a: Float64Array, n: number, b: Float64Array, out: Float64Array = new Float64Array(n)): Float64Array {
+  const l = choleskyOrThrow(a, n);
+  out.set(b.subarray(0, n));
+  return choleskySolveInPlace(l, n, out);
+}
+
+/**
+ * Rank-one update of a Cholesky factor: given L (n×n, lower, leading block of stride `ld`) with
+ * A = L Lᵀ, overwrite it with the factor of A + v vᵀ. `v` is destroyed. O(n²), always stable
+ * (Golub & Van Loan §6.5.4).
+ */
+export function choleskyRankOneUpdate(l: Float64Array, n: number, v: Float64Array, ld: number = n): void {
+  choleskyRankOneUpdateAt(l, 0, n, v, ld);
+}
+
+/**
+ * Removes row and column `k` from the matrix whose Cholesky factor is the leading n×n block of
+ * `l`, leaving the (n−1)×(n−1) factor in place. Deleting row k of L leaves the trailing block to
+ * absorb the rank-one term l₂l₂ᵀ (l₂ = L[k+1:, k]): L₂₂'L₂₂'ᵀ = L₂₂L₂₂ᵀ + l₂l₂ᵀ, then rows/columns
+ * shift up/left. `scratch` needs length ≥ n. O(n²).
+ */
+export function choleskyDeleteIndex(l: Float64Array, n: number, k: number, scratch: Float64Array, ld: number = n): void {
+  const tail = n - k - 1;
+  for (let i = 0; i < tail; i++) scratch[i] = l[(k + 1 + i) * ld + k];
+  // Update the trailing block in its current position (rows/cols k+1..n−1).
+  if (tail > 0) choleskyRankOneUpdateAt(l, k + 1, tail, scratch, ld);
+  // Shift rows k+1.. up by one, and columns k+1.. left by one (lower triangle only).
+  for (let i = k + 1; i < n; i++) {
+    const src = i * ld;
+    const dst = (i - 1) * ld;
+    for (let j = 0; j < k; j++) l[dst + j] = l[src + j];
+    for (let j = k + 1; j <= i; j++) l[dst + j - 1] = l[src + j];
+  }
+}
+
+/** Rank-one update of the trailing factor block that starts at (offset, offset). */
+function choleskyRankOneUpdateAt(l: Float64Array, offset: number, m: number, v: Float64Array, ld: number): void {
+  for (let k = 0; k < m; k++) {
+    const kk = (offset + k) * ld + offset + k;
+    const lkk = l[kk];
+    const vk = v[k];
+    const r = Math.hypot(lkk, vk);
+    const c = r / lkk;
+    const s = vk / lkk;
+    l[kk] = r;
+    for (let i = k + 1; i < m; i++) {
+      const ik = (offset + i) * ld + offset + k;
+      const lik = (l[ik] + s * v[i]) / c;
+      l[ik] = lik;
+      v[i] = c * v[i] - s * lik;
+    }
+  }
+}
+
+/**
+ * Appends one row/column to a factored matrix: the new matrix is [[A, a],[aᵀ, α]] with A = L Lᵀ
+ * (n×n). `col` holds a (length n, destroyed: it becomes the new row of L). Fails (returns false,
+ * L unchanged in its leading n×n block) when the new pivot α − ‖L⁻¹a‖² ≤ minPivotRelative·|α|.
+ */
+export function choleskyAppend(
+  l: Float64Array,
+  n: number,
+  col: Float64Array,
+  alpha: number,
+  ld: number,
+  minPivotRelative = 0,
+): boolean {
+  solveLowerInPlace(l, n, col, ld);
+  let d = alpha;
+  for (let i = 0; i < n; i++) d -= col[i] * col[i];
+  if (!(d > 0) || d <= minPivotRelative * Math.abs(alpha)) return false;
+  const row = n * ld;
+  for (let i = 0; i < n; i++) l[row + i] = col[i];
+  l[row + n] = Math.sqrt(d);
+  return true;
+}
+
+/** out ← A x for a rows×cols row-major A. */
+export function matVec(a: Float64Array, rows: number, cols: number, x: Float64Array, out: Float64Array): Float64Array {
+  for (let i = 0; i < rows; i++) {
+    const row = i * cols;
+    let s = 0;
+    for (let j = 0; j < cols; j++) s += a[row + j] * x[j];
+    out[i] = s;
+  }
+  return out;
+}
+
+/** out ← Aᵀ x for a rows×cols row-major A (out has length cols). */
+export function matTVec(a: Float64Array, rows: number, cols: number, x: Float64Array, out: Float64Array): Float64Array {
+  out.fill(0, 0, cols);
+  for (let i = 0; i < rows; i++) {
+    const row = i * cols;
+    const xi = x[i];
+    if (xi === 0) continue;
+    for (let j = 0; j < cols; j++) out[j] += a[row + j] * xi;
+  }
+  return out;
+}
+
+/** Σ a_i b_i over the first n entries. */
+export function dot(a: Float64Array, b: Float64Array, n: number = a.length): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) s += a[i] * b[i];
+  return s;
+}
+
+/** max_i |a_i| over the first n entries (0 for n = 0). */
+export function maxAbs(a: Float64Array, n: number = a.length): number {
+  let m = 0;
+  for (let i = 0; i < n; i++) {
+    const v = Math.abs(a[i]);
+    if (v > m) m = v;
+  }
+  return m;
+}
+
+/** Trace of the n×n matrix a. */
+export function trace(a: Float64Array, n: number): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) s += a[i * n + i];
+  return s;
+}
+
+/** Largest |a_ij − a_ji|, to check symmetry of inputs. */
+export function asymmetry(a: Float64Array, n: number): number {
+  let m = 0;
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < i; j++) {
+      const d = Math.abs(a[i * n + j] - a[j * n + i]);
+      if (d > m) m = d;
+    }
+  }
+  return m;
+}

@@ -1,0 +1,437 @@
+import { EstimationError } from '../estimate/errors.js';
+import { EstimationWorkspace } from '../estimate/workspace.js';
+import type { RiskModel } from '../linalg/risk-model.js';
+import { covTimes } from '../linalg/risk-ops.js';
+import { factorVarianceOf, riskContributionSharesInto, specificVarianceOf } from '../optimize/risk-decomposition.js';
+import { OptimizationError, type MethodResult } from '../optimize/types.js';
+import { drawBootstrapIndices } from '../resample/bootstrap.js';
+import { historyMeanBlockLength } from '../resample/block-length.js';
+import { drawIndependentNormal } from '../resample/normal.js';
+import {
+  createParametricScratch,
+  createResampledRiskModel,
+  drawParametricInputs,
+  prepareParametricBase,
+  type ParametricBase,
+  type ParametricScratch,
+} from '../resample/parametric.js';
+import { createDrawStream, STREAM_PURPOSE, type Seed } from '../resample/streams.js';
+import { LIMITS } from '../schema/limits.js';
+import type { Proposal } from '../schema/proposal.js';
+import type { Warning } from '../schema/validate.js';
+import { ChannelVarianceAccumulator } from './channel-variance.js';
+import { estimateFromHistory } from './estimate-inputs.js';
+import type { MethodSolver, SolveInputs } from './method-interface.js';
+import { createMethodSolver, solveReferenceMeanVariance } from './method-solvers.js';
+import { prepareProblem, type PreparedProblem } from './problem.js';
+import { ScalarAccumulator } from './scalar-accumulator.js';
+import { difference, expectedShortfall, shiftedRows } from './scenarios.js';
+import { WeightAccumulator } from './weight-accumulator.js';
+import { estimateWork, usesMean } from './work-estimate.js';
+
+/** A request over a service limit (HTTP 413). */
+export class LimitError extends Error {
+  constructor(
+    readonly limit: string,
+    readonly value: number,
+    message: string,
+  ) {
+    super(message);
+    this.name = 'LimitError';
+  }
+}
+
+/** The proposal's method failed in too many draws for the report to mean anything (HTTP 422). */
+export class TooManyFailuresError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'TooManyFailuresError';
+  }
+}
+
+export type Scheme = 'stationary-bootstrap' | 'iid-bootstrap' | 'parametric';
+
+/** Tail level of the expected shortfall reported for the proposal (95 %, common practice). */
+export const SHORTFALL_LEVEL = 0.95;
+
+/** Everything fixed for a request before the first draw. */
+export interface StressPlan {
+  readonly problem: PreparedProblem;
+  readonly draws: number;
+  readonly seed: Seed;
+  readonly scheme: Scheme;
+  readonly meanBlockLength: number | null;
+  readonly solvers: readonly MethodSolver[];
+  readonly base: readonly MethodResult[];
+  /** Certainty equivalent of the mean-variance optimum at the base inputs (the score every method is compared with). */
+  readonly referenceCertaintyEquivalent: number;
+  readonly parametric?: ParametricBase;
+  /** Base scenario rows (history moved to the base mean), for scenario Kelly. */
+  readonly baseScenarios?: Float64Array;
+  readonly workUnits: number;
+  readonly warnings: Warning[];
+}
+
+/** Per-method accumulators. */
+export interface MethodAccumulators {
+  readonly weights: WeightAccumulator;
+  readonly channels: ChannelVarianceAccumulator;
+  readonly turnoverFromProposal: ScalarAccumulator;
+  readonly turnoverFromBase: ScalarAccumulator;
+  readonly volatility: ScalarAccumulator;
+  readonly certaintyEquivalentLoss: ScalarAccumulator;
+  readonly failures: Map<string, number>;
+}
+
+/** Everything the draws produce; ranges of draws can be computed apart and merged. */
+export interface StressAccumulators {
+  readonly methods: MethodAccumulators[];
+  readonly proposalVolatility: ScalarAccumulator;
+  readonly proposalReturn: ScalarAccumulator;
+  readonly proposalShortfall: ScalarAccumulator;
+  readonly proposalRiskShares: WeightAccumulator;
+  /** Draws whose inputs could not be estimated, by reason. */
+  readonly inputFailures: Map<string, number>;
+}
+
+export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed } = {}): StressPlan {
+  const problem = prepareProblem(proposal, warnings);
+  const draws = overrides.draws ?? proposal.resampling?.draws ?? 500;
+  const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
+  if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
+  if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
+  const history = problem.history;
+  const scheme: Scheme = proposal.resampling?.scheme ?? (history ? 'stationary-bootstrap' : 'parametric');
+  const planWarnings = [...problem.warnings];
+
+  let meanBlockLength: number | null = null;
+  if (history && scheme === 'stationary-bootstrap') {
+    const requested = proposal.resampling?.meanBlockLength ?? 'auto';
+    meanBlockLength =
+      requested === 'auto'
+        ? historyMeanBlockLength(history.assets.values, history.assets.periods, history.assets.series).meanBlockLength
+        : requested;
+  }
+
+  const scenarioKelly = history !== undefined && scheme !== 'parametric';
+  const n = problem.n;
+  const rows = history?.assets.periods ?? 0;
+  const factors = problem.riskModel.kind === 'factor' ? problem.riskModel.k : 0;
+  const workUnits = estimateWork(problem.methods, draws, { n, rows, factors, pca: problem.plan?.factorModel === 'pca', scenarioKelly });
+  if (workUnits > LIMITS.maxWorkUnits) {
+    throw new LimitError(
+      'maxWorkUnits',
+      LIMITS.maxWorkUnits,
+      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${LIMITS.maxWorkUnits.toExponential(1)} (maxWorkUnits); use fewer draws (at most about ${Math.max(1, Math.floor((draws * LIMITS.maxWorkUnits) / workUnits))}), fewer methods in compare, or a factor model`,
+    );
+  }
+  const stored = (problem.methods.length + 1) * draws * n;
+  if (stored > LIMITS.maxStoredValues) {
+    throw new LimitError(
+      'maxStoredValues',
+      LIMITS.maxStoredValues,
+      `this request would keep ${stored} numbers in memory (draws × assets × (methods + 1)), over the limit of ${LIMITS.maxStoredValues} (maxStoredValues); use at most ${Math.floor(LIMITS.maxStoredValues / ((problem.methods.length + 1) * n))} draws`,
+    );
+  }
+
+  const { solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(problem, scenarioKelly);
+  planWarnings.push(...baseWarnings);
+
+  const reference = solveReferenceMeanVariance(problem, problem.methods, base);
+  const referenceCertaintyEquivalent = certaintyEquivalent(problem, reference, new Float64Array(n));
+  const parametric =
+    scheme === 'parametric'
+      ? prepareParametricBase({ mean: problem.mean, risk: problem.riskModel, observations: problem.observations, meanStdErr: problem.viewStdErr })
+      : undefined;
+  return {
+    problem,
+    draws,
+    seed,
+    scheme,
+    meanBlockLength,
+    solvers,
+    base,
+    referenceCertaintyEquivalent,
+    parametric,
+    baseScenarios,
+    workUnits,
+    warnings: planWarnings,
+  };
+}
+
+/** Every method's solver and its optimum on the unperturbed inputs (shared by optimize and stress). */
+export function solveBaseOptima(
+  problem: PreparedProblem,
+  scenarioKelly: boolean,
+): { solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[] } {
+  const n = problem.n;
+  const history = problem.history;
+  const solvers = problem.methods.map((spec) => createMethodSolver(spec, problem, { scenarioKelly }));
+  let baseScenarios: Float64Array | undefined;
+  let rows = 0;
+  if (history && scenarioKelly) {
+    rows = history.assets.periods;
+    baseScenarios = new Float64Array(rows * n);
+    // The history moved to the base mean (a no-op without views).
+    const sampleMean = estimateFromHistory(history, { covariance: { method: 'sample' }, factorModel: 'none' }).mean;
+    shiftedRows(history.assets.values, n, rows, undefined, difference(problem.mean, sampleMean, new Float64Array(n)), baseScenarios);
+  }
+  const inputs: SolveInputs = { mean: problem.mean, riskModel: problem.riskModel, scenarios: baseScenarios, scenarioCount: rows };
+  const base = solvers.map((s) => s.solve(inputs));
+  const warnings: Warning[] = [];
+  problem.methods.forEach((spec, i) => {
+    if (spec.name === 'kelly' && !scenarioKelly) {
+      warnings.push({
+        code: 'kelly-quadratic-approximation',
+        message: `Kelly${history ? ' under parametric resampling' : ' with moments-only inputs'} uses the quadratic (continuous-time) approximation: mean-variance with risk aversion 1/fraction = ${1 / (spec.fraction ?? 1)}.`,
+      });
+    }
+  });
+  // Each method's own warnings stay with its optimum (methods[i].base.warnings), not repeated here.
+  return { solvers, base, baseScenarios, warnings };
+}
+
+/**
+ * Certainty equivalent at the base inputs, per period: μ₀ᵀw − ½(λ_f·wᵀBFBᵀw + λ_s·wᵀDw), or
+ * μ₀ᵀw − (λ/2)·wᵀΣ₀w for a dense Σ (DeMiguel, Garlappi & Uppal 2009 score methods this way).
+ */
+export function certaintyEquivalent(problem: PreparedProblem, w: Float64Array, scratch: Float64Array): number {
+  let mu = 0;
+  for (let i = 0; i < problem.n; i++) mu += problem.mean[i] * w[i];
+  const model = problem.riskModel;
+  const ra = problem.scoringRiskAversion;
+  if (model.kind === 'factor') return mu - 0.5 * (ra.factor * factorVarianceOf(model, w) + ra.specific * specificVarianceOf(model, w));
+  return mu - 0.5 * ra.factor * quadratic(model, w, scratch);
+}
+
+function quadratic(model: RiskModel, w: Float64Array, scratch: Float64Array): number {
+  covTimes(model, w, scratch);
+  let s = 0;
+  for (let i = 0; i < w.length; i++) s += w[i] * scratch[i];
+  return s;
+}
+
+export function createAccumulators(plan: StressPlan): StressAccumulators {
+  const { draws } = plan;
+  const n = plan.problem.n;
+  return {
+    methods: plan.solvers.map(() => ({
+      weights: new WeightAccumulator(draws, n),
+      channels: new ChannelVarianceAccumulator(draws, n),
+      turnoverFromProposal: new ScalarAccumulator(draws),
+      turnoverFromBase: new ScalarAccumulator(draws),
+      volatility: new ScalarAccumulator(draws),
+      certaintyEquivalentLoss: new ScalarAccumulator(draws),
+      failures: new Map<string, number>(),
+    })),
+    proposalVolatility: new ScalarAccumulator(draws),
+    proposalReturn: new ScalarAccumulator(draws),
+    proposalShortfall: new ScalarAccumulator(draws),
+    proposalRiskShares: new WeightAccumulator(draws, n),
+    inputFailures: new Map<string, number>(),
+  };
+}
+
+function bump(map: Map<string, number>, key: string): void {
+  map.set(key, (map.get(key) ?? 0) + 1);
+}
+
+export function mergeAccumulators(into: StressAccumulators, from: StressAccumulators): void {
+  into.methods.forEach((m, i) => {
+    const o = from.methods[i];
+    m.weights.merge(o.weights);
+    m.channels.merge(o.channels);
+    m.turnoverFromProposal.merge(o.turnoverFromProposal);
+    m.turnoverFromBase.merge(o.turnoverFromBase);
+    m.volatility.merge(o.volatility);
+    m.certaintyEquivalentLoss.merge(o.certaintyEquivalentLoss);
+    for (const [k, v] of o.failures) m.failures.set(k, (m.failures.get(k) ?? 0) + v);
+  });
+  into.proposalVolatility.merge(from.proposalVolatility);
+  into.proposalReturn.merge(from.proposalReturn);
+  into.proposalShortfall.merge(from.proposalShortfall);
+  into.proposalRiskShares.merge(from.proposalRiskShares);
+  for (const [k, v] of from.inputFailures) into.inputFailures.set(k, (into.inputFailures.get(k) ?? 0) + v);
+}
+
+/** Per-range buffers, allocated once and reused by every draw (no allocation per draw in the loop itself). */
+interface DrawBuffers {
+  readonly rows: Int32Array;
+  readonly mean: Float64Array;
+  readonly sampleMean: Float64Array;
+  readonly shift: Float64Array;
+  readonly cov: Float64Array;
+  readonly jointScenarios?: Float64Array;
+  readonly meanOnlyScenarios?: Float64Array;
+  readonly covOnlyScenarios?: Float64Array;
+  readonly shortfall: Float64Array;
+  readonly scratch: Float64Array;
+  readonly shares: Float64Array;
+  readonly parametricScratch?: ParametricScratch;
+  readonly parametricRisk?: RiskModel;
+  readonly workspace: EstimationWorkspace;
+}
+
+function createBuffers(plan: StressPlan): DrawBuffers {
+  const n = plan.problem.n;
+  const t = plan.problem.history?.assets.periods ?? 0;
+  const scen = plan.baseScenarios ? () => new Float64Array(t * n) : () => undefined;
+  return {
+    rows: new Int32Array(t),
+    mean: new Float64Array(n),
+    sampleMean: new Float64Array(n),
+    shift: new Float64Array(n),
+    cov: new Float64Array(n * n),
+    jointScenarios: scen(),
+    meanOnlyScenarios: scen(),
+    covOnlyScenarios: scen(),
+    shortfall: new Float64Array(Math.max(t, 1)),
+    scratch: new Float64Array(n),
+    shares: new Float64Array(n),
+    parametricScratch: plan.parametric ? createParametricScratch(plan.parametric) : undefined,
+    parametricRisk: plan.parametric ? createResampledRiskModel(plan.parametric) : undefined,
+    workspace: new EstimationWorkspace(),
+  };
+}
+
+/** The three channels' inputs for one draw. */
+interface DrawInputs {
+  readonly joint: SolveInputs;
+  readonly meanOnly: SolveInputs;
+  readonly covOnly: SolveInputs;
+  /** Rows of the history behind this draw (bootstrap schemes). */
+  readonly rows?: Int32Array;
+}
+
+function drawInputs(plan: StressPlan, b: number, buf: DrawBuffers): DrawInputs {
+  const p = plan.problem;
+  const n = p.n;
+  const base = { mean: p.mean, riskModel: p.riskModel };
+  if (plan.parametric) {
+    drawParametricInputs(plan.seed, b, plan.parametric, buf.mean, buf.parametricRisk as RiskModel, buf.parametricScratch as ParametricScratch);
+    const risk = buf.parametricRisk as RiskModel;
+    return { joint: { mean: buf.mean, riskModel: risk }, meanOnly: { mean: buf.mean, riskModel: p.riskModel }, covOnly: { mean: p.mean, riskModel: risk } };
+  }
+  const history = p.history;
+  if (!history || !p.plan) throw new Error('bootstrap needs a return history');
+  const t = history.assets.periods;
+  drawBootstrapIndices(plan.seed, b, plan.scheme === 'iid-bootstrap' ? 'iid-bootstrap' : 'stationary-bootstrap', t, plan.meanBlockLength ?? 1, buf.rows);
+  const est = estimateFromHistory(history, p.plan, buf.rows, { mean: buf.sampleMean, cov: buf.cov, workspace: buf.workspace });
+  let mean = est.mean;
+  if (p.viewStdErr) {
+    // Views replace the estimated means; their noise is their own standard error.
+    mean = drawIndependentNormal(createDrawStream(plan.seed, b, STREAM_PURPOSE.mean), p.mean, p.viewStdErr, buf.mean);
+  }
+  let joint: SolveInputs = { mean, riskModel: est.riskModel };
+  let meanOnly: SolveInputs = { mean, riskModel: base.riskModel };
+  let covOnly: SolveInputs = { mean: base.mean, riskModel: est.riskModel };
+  if (plan.baseScenarios && buf.jointScenarios && buf.meanOnlyScenarios && buf.covOnlyScenarios) {
+    const x = history.assets.values;
+    // joint: the draw's rows at the draw's mean; mean-only: base rows at the draw's mean; covariance-only: the draw's rows at the base mean.
+    shiftedRows(x, n, t, buf.rows, difference(mean, est.mean, buf.shift), buf.jointScenarios);
+    shiftedRows(plan.baseScenarios, n, t, undefined, difference(mean, p.mean, buf.shift), buf.meanOnlyScenarios);
+    shiftedRows(x, n, t, buf.rows, difference(p.mean, est.mean, buf.shift), buf.covOnlyScenarios);
+    joint = { ...joint, scenarios: buf.jointScenarios, scenarioCount: t };
+    meanOnly = { ...meanOnly, scenarios: buf.meanOnlyScenarios, scenarioCount: t };
+    covOnly = { ...covOnly, scenarios: buf.covOnlyScenarios, scenarioCount: t };
+  }
+  return { joint, meanOnly, covOnly, rows: buf.rows };
+}
+
+function failureReason(e: unknown): string {
+  if (e instanceof OptimizationError) return `${e.code}: ${e.message}`.slice(0, 200);
+  if (e instanceof EstimationError) return `estimation: ${e.message}`.slice(0, 200);
+  if (e instanceof RangeError) return `numerical: ${e.message}`.slice(0, 200);
+  throw e;
+}
+
+function turnover(a: Float64Array, b: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s += Math.abs(a[i] - b[i]);
+  return 0.5 * s;
+}
+
+/**
+ * Computes draws [start, end) into `acc`. Each draw depends only on (seed, draw index) and the
+ * base problem — warm starts come from the base optimum, never from the previous draw — so any
+ * split of the draws into ranges gives the same accumulators after merging.
+ */
+export function runDraws(plan: StressPlan, start: number, end: number, acc: StressAccumulators, onProgress?: (done: number) => void): void {
+  const p = plan.problem;
+  const ppy = p.periodsPerYear;
+  const sqrtPpy = Math.sqrt(ppy);
+  const buf = createBuffers(plan);
+  const proposal = p.proposalWeights;
+  for (let b = start; b < end; b++) {
+    let inputs: DrawInputs;
+    try {
+      inputs = drawInputs(plan, b, buf);
+    } catch (e) {
+      bump(acc.inputFailures, failureReason(e));
+      for (const m of acc.methods) {
+        m.weights.recordFailure(b);
+        m.channels.recordFailure(b, 'mean-only');
+        m.channels.recordFailure(b, 'covariance-only');
+        for (const s of [m.turnoverFromProposal, m.turnoverFromBase, m.volatility, m.certaintyEquivalentLoss]) s.recordFailure(b);
+      }
+      for (const s of [acc.proposalVolatility, acc.proposalReturn, acc.proposalShortfall]) s.recordFailure(b);
+      acc.proposalRiskShares.recordFailure(b);
+      continue;
+    }
+    // The proposal itself under this draw's inputs.
+    const jointRisk = inputs.joint.riskModel;
+    const variance = quadratic(jointRisk, proposal, buf.scratch);
+    acc.proposalVolatility.record(b, Math.sqrt(Math.max(variance, 0)) * sqrtPpy);
+    let mu = 0;
+    for (let i = 0; i < p.n; i++) mu += inputs.joint.mean[i] * proposal[i];
+    acc.proposalReturn.record(b, mu * ppy);
+    riskContributionSharesInto(jointRisk, proposal, buf.shares);
+    acc.proposalRiskShares.record(b, buf.shares);
+    if (inputs.rows && p.history) {
+      acc.proposalShortfall.record(b, expectedShortfall(p.history.assets.values, p.n, p.history.assets.periods, inputs.rows, proposal, SHORTFALL_LEVEL, buf.shortfall));
+    } else acc.proposalShortfall.recordFailure(b);
+
+    plan.solvers.forEach((solver, k) => {
+      const m = acc.methods[k];
+      const base = plan.base[k];
+      let joint: MethodResult;
+      try {
+        joint = solver.solve(inputs.joint, base.warmStart);
+      } catch (e) {
+        bump(m.failures, failureReason(e));
+        m.weights.recordFailure(b);
+        for (const s of [m.turnoverFromProposal, m.turnoverFromBase, m.volatility, m.certaintyEquivalentLoss]) s.recordFailure(b);
+        m.channels.recordFailure(b, 'mean-only');
+        m.channels.recordFailure(b, 'covariance-only');
+        return;
+      }
+      const w = joint.weights;
+      m.weights.record(b, w);
+      m.turnoverFromProposal.record(b, turnover(w, proposal));
+      m.turnoverFromBase.record(b, turnover(w, base.weights));
+      m.volatility.record(b, Math.sqrt(Math.max(quadratic(jointRisk, w, buf.scratch), 0)) * sqrtPpy);
+      m.certaintyEquivalentLoss.record(b, (plan.referenceCertaintyEquivalent - certaintyEquivalent(p, w, buf.scratch)) * ppy);
+      if (!solver.usesMean) {
+        // The optimum ignores the means: the mean-only channel keeps the base weights (variance exactly 0)
+        // and the covariance-only channel is the joint one. No solve needed for either.
+        m.channels.record(b, 'mean-only', base.weights);
+        m.channels.record(b, 'covariance-only', w);
+        return;
+      }
+      for (const [channel, channelInputs] of [
+        ['mean-only', inputs.meanOnly],
+        ['covariance-only', inputs.covOnly],
+      ] as const) {
+        try {
+          m.channels.record(b, channel, solver.solve(channelInputs, base.warmStart).weights);
+        } catch (e) {
+          bump(m.failures, `${channel} channel: ${failureReason(e)}`);
+          m.channels.recordFailure(b, channel);
+        }
+      }
+    });
+    onProgress?.(b + 1 - start);
+  }
+}
+
+export { usesMean };

@@ -1,0 +1,78 @@
+import type { MethodReport, Report } from '../schema/report.js';
+
+type Finding = Report['findings'][number];
+
+const pct = (x: number): string => `${(100 * x).toFixed(1)}%`;
+
+/** Rules of thumb for what counts as notable (common practice, chosen by us; stated in the README). */
+export const FINDING_THRESHOLDS = {
+  /** A weight whose p05–p95 band is wider than this is called unstable. */
+  wideBand: 0.1,
+  /** Mean-driven share above this: "depends mainly on its return forecast". */
+  meanDriven: 0.7,
+  /** Held (≥ 1 bp) in fewer than this share of draws although the proposal holds it. */
+  rarelySelected: 0.5,
+};
+
+/**
+ * Plain-language findings for a reviewer, from the proposal's own method first, then the
+ * certainty-equivalent comparison of methods.
+ */
+export function findingsFor(assets: readonly string[], proposalWeights: readonly number[], methods: readonly MethodReport[], proposalVolatility: Report['proposal']['volatility']): Finding[] {
+  const out: Finding[] = [];
+  const own = methods[0];
+  if (own) {
+    const name = own.method.name;
+    own.weights.forEach((w, i) => {
+      // At most one finding per asset, the most telling first.
+      const width = w.p95 - w.p05;
+      const asset = assets[i];
+      const share = own.meanDrivenShare.perAsset[i];
+      const held = proposalWeights[i] >= 1e-4;
+      const band = `re-optimised weights range ${pct(w.p05)}–${pct(w.p95)} (p05–p95)`;
+      const selection = held && w.selectionRate < FINDING_THRESHOLDS.rarelySelected ? `; it is held in only ${pct(w.selectionRate)} of draws` : '';
+      if (width > FINDING_THRESHOLDS.wideBand && share > FINDING_THRESHOLDS.meanDriven) {
+        out.push({
+          code: 'weight-driven-by-mean-forecast',
+          asset,
+          method: name,
+          message: `${asset} (proposed ${pct(proposalWeights[i])}) depends mainly on its return forecast: ${band}, and ${pct(share)} of that variability comes from noise in the means rather than in the covariance${selection}.`,
+        });
+      } else if (width > FINDING_THRESHOLDS.wideBand) {
+        out.push({ code: 'weight-unstable', asset, method: name, message: `${asset} (proposed ${pct(proposalWeights[i])}) is unstable under ${name}: ${band}${selection}.` });
+      } else if (selection) {
+        out.push({ code: 'position-rarely-selected', asset, method: name, message: `${asset} (proposed ${pct(proposalWeights[i])})${selection.replace('; it', '')}.` });
+      } else if (w.proposalPercentile < 5 || w.proposalPercentile > 95) {
+        out.push({
+          code: 'proposal-outside-band',
+          asset,
+          method: name,
+          message: `The proposed weight of ${asset} (${pct(proposalWeights[i])}) lies outside the p05–p95 band of ${name} weights (${pct(w.p05)}–${pct(w.p95)}).`,
+        });
+      }
+    });
+    out.push({
+      code: 'turnover',
+      method: name,
+      message: `Re-optimising ${name} on resampled inputs would trade a median ${pct(own.turnoverFromProposal.p50)} of the portfolio (one-way turnover from the proposal; p95 ${pct(own.turnoverFromProposal.p95)}).`,
+    });
+  }
+  out.push({
+    code: 'proposal-volatility-band',
+    message: `The proposal's annualised volatility is ${pct(proposalVolatility.base)} on the base inputs and ranges ${pct(proposalVolatility.p05)}–${pct(proposalVolatility.p95)} (p05–p95) under resampled covariances.`,
+  });
+  // Which method loses least to estimation error, scored at the base inputs.
+  const scored = methods.filter((m) => Number.isFinite(m.certaintyEquivalentLoss.mean));
+  if (own && scored.length > 1) {
+    const best = scored.reduce((a, b) => (b.certaintyEquivalentLoss.mean < a.certaintyEquivalentLoss.mean ? b : a));
+    const se = Math.hypot(best.certaintyEquivalentLoss.stdErr, own.certaintyEquivalentLoss.stdErr);
+    if (best !== own && own.certaintyEquivalentLoss.mean - best.certaintyEquivalentLoss.mean > 2 * se) {
+      out.push({
+        code: 'simpler-method-loses-less',
+        method: best.method.name,
+        message: `Scored at the base inputs, ${best.method.name} re-optimised on resampled inputs loses ${pct(best.certaintyEquivalentLoss.mean)} a year of certainty-equivalent return on average, against ${pct(own.certaintyEquivalentLoss.mean)} for ${own.method.name}: at this sample size, estimation error costs ${own.method.name} more than ${best.method.name} gives up by ignoring inputs.`,
+      });
+    }
+  }
+  return out;
+}

@@ -1,0 +1,165 @@
+import { annualiseMean, annualiseVolatility } from '../estimate/annualise.js';
+import { decomposeRisk } from '../optimize/risk-decomposition.js';
+import { CAUTIONS } from '../schema/cautions.js';
+import type { MethodReport, Report, Stat } from '../schema/report.js';
+import { MONTE_CARLO_ERROR_DESCRIPTION } from './batch-means.js';
+import { describeOptimum, clean, cleanArray } from './base-optimum.js';
+import { SHORTFALL_LEVEL, type StressAccumulators, type StressPlan } from './engine.js';
+import { expectedShortfall } from './scenarios.js';
+import { findingsFor } from './findings.js';
+import { PERCENTILE_DEFINITION } from './quantiles.js';
+import type { ScalarSummary } from './scalar-accumulator.js';
+import { outsideBandShare } from './stability.js';
+
+/** Tolerance for "outside the band": a weight within 1e-9 of a band edge is on it. */
+const BAND_EDGE_TOLERANCE = 1e-9;
+
+/** A finite number for the report; NaN (not estimable, e.g. an sd from one draw) becomes 0 with a warning elsewhere. */
+function finite(x: number): number {
+  return Number.isFinite(x) ? clean(x) : 0;
+}
+
+function stat(s: ScalarSummary): Stat {
+  return { mean: finite(s.mean), stdErr: finite(s.stdErr), p05: finite(s.p05), p50: finite(s.p50), p95: finite(s.p95), p50StdErr: finite(s.p50StdErr) };
+}
+
+export interface ReportMeta {
+  readonly version: string;
+  readonly inputDigest: string;
+  readonly elapsedMs: number;
+}
+
+/** Turns the accumulated draws into the report (without a verdict). */
+export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: ReportMeta): Omit<Report, 'verdict'> {
+  const p = plan.problem;
+  const n = p.n;
+  const ppy = p.periodsPerYear;
+  const warnings = [...plan.warnings];
+  if (plan.draws < 100) {
+    warnings.push({ code: 'few-draws', message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.` });
+  }
+
+  const methods: MethodReport[] = plan.solvers.map((_, k) => {
+    const a = acc.methods[k];
+    const spec = p.methods[k];
+    const summary = a.weights.summarize(p.proposalWeights);
+    const shares = a.channels.summarize();
+    const stability = outsideBandShare(a.weights.rows(), plan.draws, n, p.proposalWeights, BAND_EDGE_TOLERANCE);
+    let maxSd = 0;
+    let maxSdErr = 0;
+    summary.perAsset.forEach((w) => {
+      if (w.sd > maxSd) {
+        maxSd = w.sd;
+        maxSdErr = w.sdStdErr;
+      }
+    });
+    return {
+      method: spec,
+      base: describeOptimum(plan.base[k], p.mean, p.riskModel, ppy),
+      weights: summary.perAsset.map((w, i) => ({
+        asset: p.assets[i],
+        mean: finite(w.mean),
+        sd: finite(w.sd),
+        p05: finite(w.p05),
+        p25: finite(w.p25),
+        p50: finite(w.p50),
+        p75: finite(w.p75),
+        p95: finite(w.p95),
+        bandStdErr: finite(w.bandStdErr),
+        selectionRate: finite(w.selectionRate),
+        proposalPercentile: finite(w.proposalPercentile),
+      })),
+      turnoverFromProposal: stat(a.turnoverFromProposal.summarize()),
+      turnoverFromBase: stat(a.turnoverFromBase.summarize()),
+      volatility: stat(a.volatility.summarize()),
+      certaintyEquivalentLoss: stat(a.certaintyEquivalentLoss.summarize()),
+      meanDrivenShare: {
+        overall: finite(shares.overall),
+        perAsset: cleanArray(Array.from(shares.perAsset, (x) => (Number.isFinite(x) ? x : 0))),
+        stdErr: finite(shares.overallStdErr),
+      },
+      resampledAverage: cleanArray(summary.resampledAverage),
+      outsideBandShare: { value: finite(stability.value), stdErr: finite(stability.stdErr) },
+      maxWeightSd: { value: finite(maxSd), stdErr: finite(maxSdErr) },
+      failedDraws: summary.failedDraws,
+    };
+  });
+
+  const baseRisk = decomposeRisk(p.riskModel, p.proposalWeights, { effectiveBets: false });
+  let baseMu = 0;
+  for (let i = 0; i < n; i++) baseMu += p.mean[i] * p.proposalWeights[i];
+  const vol = acc.proposalVolatility.summarize();
+  const ret = acc.proposalReturn.summarize();
+  const shares = acc.proposalRiskShares.summarize(p.proposalWeights);
+  const proposal: Report['proposal'] = {
+    method: p.methods[0],
+    weights: cleanArray(p.proposalWeights),
+    expectedReturn: { base: clean(annualiseMean(baseMu, ppy)), ...stat(ret) },
+    volatility: { base: clean(annualiseVolatility(baseRisk.volatility, ppy)), ...stat(vol) },
+    volatilityBandWidth: { value: finite(vol.p95 - vol.p05), stdErr: finite(vol.bandWidthStdErr) },
+    riskContributions: shares.perAsset.map((s, i) => ({
+      asset: p.assets[i],
+      base: clean(baseRisk.contributionShares[i]),
+      p05: finite(s.p05),
+      p50: finite(s.p50),
+      p95: finite(s.p95),
+    })),
+  };
+  if (p.history && plan.scheme !== 'parametric') {
+    const es = acc.proposalShortfall.summarize();
+    // Base: the shortfall over the history itself.
+    const t = p.history.assets.periods;
+    const baseEs = expectedShortfall(p.history.assets.values, n, t, undefined, p.proposalWeights, SHORTFALL_LEVEL, new Float64Array(t));
+    proposal.expectedShortfall95 = { base: clean(baseEs), ...stat(es) };
+  }
+
+  // Failures: draws where at least one method (or the inputs) failed.
+  const failedDraws = countFailedDraws(plan, acc);
+  const failureReasons: Report['meta']['failureReasons'] = [];
+  for (const [reason, count] of acc.inputFailures) failureReasons.push({ method: 'inputs', reason, count });
+  acc.methods.forEach((a, k) => {
+    for (const [reason, count] of a.failures) failureReasons.push({ method: p.methods[k].name, reason, count });
+  });
+  failureReasons.sort((x, y) => y.count - x.count || x.method.localeCompare(y.method) || x.reason.localeCompare(y.reason));
+  if (failedDraws > 0) {
+    warnings.push({ code: 'failed-draws', message: `${failedDraws} of ${plan.draws} draws failed for at least one method; those draws are left out of that method's figures (see meta.failureReasons).` });
+  }
+  const inputFailed = [...acc.inputFailures.values()].reduce((a, b) => a + b, 0);
+  return {
+    meta: {
+      version: meta.version,
+      seed: plan.seed,
+      drawsRequested: plan.draws,
+      drawsCompleted: plan.draws - inputFailed,
+      failedDraws,
+      failureReasons: failureReasons.slice(0, 20),
+      elapsedMs: meta.elapsedMs,
+      inputDigest: meta.inputDigest,
+      scheme: plan.scheme,
+      meanBlockLength: plan.meanBlockLength === null ? null : clean(plan.meanBlockLength),
+      periodsPerYear: ppy,
+      channels: ['joint', 'mean-only', 'covariance-only'],
+      percentiles: PERCENTILE_DEFINITION,
+      monteCarloError: MONTE_CARLO_ERROR_DESCRIPTION,
+      workUnits: Math.round(plan.workUnits),
+    },
+    assets: [...p.assets],
+    proposal,
+    methods,
+    findings: findingsFor(p.assets, Array.from(p.proposalWeights), methods, proposal.volatility),
+    warnings,
+    cautions: [...CAUTIONS],
+  };
+}
+
+function countFailedDraws(plan: StressPlan, acc: StressAccumulators): number {
+  const failed = new Uint8Array(plan.draws);
+  for (const a of acc.methods) {
+    const rows = a.weights.rows();
+    const n = plan.problem.n;
+    for (let b = 0; b < plan.draws; b++) if (!Number.isFinite(rows[b * n])) failed[b] = 1;
+  }
+  let count = 0;
+  for (let b = 0; b < plan.draws; b++) count += failed[b];
+  return count;
+}

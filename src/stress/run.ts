@@ -1,0 +1,81 @@
+import type { Policy, Proposal } from '../schema/proposal.js';
+import type { OptimizeResponse, Report } from '../schema/report.js';
+import type { Warning } from '../schema/validate.js';
+import { CAUTIONS } from '../schema/cautions.js';
+import { VERSION } from '../version.js';
+import { describeOptimum } from './base-optimum.js';
+import { inputDigest } from './digest.js';
+import { createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
+import { prepareProblem } from './problem.js';
+import { buildReport } from './report.js';
+import { judge } from './verdict.js';
+
+/**
+ * The three jobs of the service, on a validated proposal. Pure apart from WebCrypto for the digest;
+ * the edges (HTTP, CLI) measure elapsed time and pass it in through `clock`.
+ */
+
+export interface RunOptions {
+  readonly draws?: number;
+  readonly seed?: string | number;
+  /** Split the draws into ranges computed one after another and merged (for tests of split-invariance, and progress). */
+  readonly rangeSize?: number;
+  readonly onProgress?: (done: number, total: number) => void;
+  /** Milliseconds since some origin; only used for meta.elapsedMs. */
+  readonly clock?: () => number;
+}
+
+/** Share of draws the proposal's own method may fail in before the report is refused. */
+export const MAX_FAILED_SHARE = 0.5;
+
+export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0): Promise<OptimizeResponse> {
+  const started = clock();
+  const problem = prepareProblem(proposal, warnings);
+  const scenarioKelly = problem.history !== undefined && proposal.resampling?.scheme !== 'parametric';
+  const solved = solveBaseOptima(problem, scenarioKelly);
+  return {
+    meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
+    assets: [...problem.assets],
+    methods: problem.methods.map((spec, k) => ({ method: spec, base: describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear) })),
+    warnings: [...problem.warnings, ...solved.warnings],
+    cautions: [...CAUTIONS],
+  };
+}
+
+function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions): StressAccumulators {
+  const acc = createAccumulators(plan);
+  const size = options.rangeSize && options.rangeSize > 0 ? options.rangeSize : plan.draws;
+  for (let start = 0; start < plan.draws; start += size) {
+    const end = Math.min(plan.draws, start + size);
+    const part = createAccumulators(plan);
+    runDraws(plan, start, end, part, options.onProgress ? (done) => options.onProgress?.(start + done, plan.draws) : undefined);
+    mergeAccumulators(acc, part);
+  }
+  return acc;
+}
+
+export async function stressProposal(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<Omit<Report, 'verdict'>> {
+  const clock = options.clock ?? (() => 0);
+  const started = clock();
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed });
+  const acc = computeDraws(plan, options);
+  const own = acc.methods[0].weights.counts();
+  if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
+    throw new TooManyFailuresError(
+      `${plan.problem.methods[0].name} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report. Consider a shrinkage covariance or a factor model.`,
+    );
+  }
+  const digest = await inputDigest(proposal);
+  return buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) });
+}
+
+export async function checkProposal(
+  proposal: Proposal,
+  warnings: Warning[],
+  policy: Policy,
+  baseline: Omit<Report, 'verdict'> | undefined,
+  options: RunOptions = {},
+): Promise<Report> {
+  const report = await stressProposal(proposal, warnings, options);
+  return { ...report, verdict: judge(report, policy, baseline) };
+}
