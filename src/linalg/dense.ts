@@ -6,9 +6,9 @@
  * active-set QP solver keeps its reduced Cholesky factor that way. Only the lower triangle of a
  * Cholesky factor is meaningful; kernels never read the strict upper triangle of L.
  *
- * Algorithms: Golub & Van Loan, Matrix Computations (4th ed.): Cholesky §4.2 (Alg. 4.2.1, the
- * row-oriented "dot product" form), triangular solves §3.1, rank-one update of a Cholesky factor
- * §6.5.4 (Givens-style, stable because nothing is subtracted).
+ * Algorithms: Golub & Van Loan, Matrix Computations (4th ed.): Cholesky §4.2 (row-oriented
+ * "dot product" form), triangular solves §3.1, updating a Cholesky factor §6.5 (the rank-one
+ * update is a sequence of plane rotations, stable because nothing is subtracted).
  */
 
 /** Thrown when a matrix that must be symmetric positive definite has a non-positive pivot. */
@@ -113,7 +113,7 @@ export function solveSpd(a: Float64Array, n: number, b: Float64Array, out: Float
 /**
  * Rank-one update of a Cholesky factor: given L (n×n, lower, leading block of stride `ld`) with
  * A = L Lᵀ, overwrite it with the factor of A + v vᵀ. `v` is destroyed. O(n²), always stable
- * (Golub & Van Loan §6.5.4).
+ * (Golub & Van Loan §6.5).
  */
 export function choleskyRankOneUpdate(l: Float64Array, n: number, v: Float64Array, ld: number = n): void {
   choleskyRankOneUpdateAt(l, 0, n, v, ld);

@@ -141,16 +141,14 @@ export function kelly(
       d[i] = last.x[i] - w[i];
       slope += state.gradient[i] * d[i];
     }
-    if (!(slope > 0)) {
-      // No ascent left at rounding level: w is as good as this precision allows.
-      converged = residual <= Math.max(tolerance, 1e-8);
-      break;
-    }
-    let alpha = Math.min(1, FRACTION_TO_BOUNDARY * state.maxStep(d));
     const f0 = state.value;
+    const roundingLevel = 1e-12 * Math.max(1, Math.abs(f0));
+    // A clearly negative slope means the step QP failed; stop and report.
+    if (slope < -roundingLevel) break;
+    let alpha = Math.min(1, FRACTION_TO_BOUNDARY * state.maxStep(d));
     // Once the predicted gain is at the rounding level of φ, Armijo cannot tell gains from
     // rounding: take the (quadratically convergent) Newton step as it is.
-    let accepted = slope <= 1e-12 * Math.max(1, Math.abs(f0));
+    let accepted = slope <= roundingLevel;
     if (accepted) for (let i = 0; i < n; i++) trial[i] = w[i] + alpha * d[i];
     for (let k = 0; k < 60 && !accepted; k++) {
       for (let i = 0; i < n; i++) trial[i] = w[i] + alpha * d[i];

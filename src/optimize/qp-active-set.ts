@@ -77,6 +77,8 @@ const SNAP_TOLERANCE = 1e-13;
 const ROW_TIGHT_TOLERANCE = 1e-11;
 /** Step norms below this fraction of the x scale count as zero. */
 const STEP_TOLERANCE = 1e-13;
+/** Full gradient recomputation after this many incremental updates. */
+const GRADIENT_REFRESH = 16;
 
 /** Reusable state and buffers of the active-set method for problems up to nMax variables and mMax rows. */
 export class ActiveSetEngine {
@@ -97,6 +99,9 @@ export class ActiveSetEngine {
   private z0 = new Float64Array(0);
   private work = new Float64Array(0);
   private atNu = new Float64Array(0);
+  private hp = new Float64Array(0);
+  /** Incremental gradient updates since the last full g = Hx − c (rounding control). */
+  private gradientAge = Infinity;
   /** Dense coefficient vectors of the current problem's rows (cached per rows array). */
   private denseRowsFor: readonly LinearRow[] | null = null;
   private denseRowsN = -1;
@@ -129,6 +134,7 @@ export class ActiveSetEngine {
       this.z0 = new Float64Array(n);
       this.work = new Float64Array(n);
       this.atNu = new Float64Array(n);
+      this.hp = new Float64Array(n);
     }
     const rowsChanged = m > this.mMax;
     if (rowsChanged) {
@@ -193,17 +199,20 @@ export class ActiveSetEngine {
     const p = this.p;
     const free = this.free;
 
+    this.gradientAge = Infinity;
     for (; iterations < options.maxIterations; iterations++) {
       if (schurDirty) {
         if (!this.computeSchur()) {
           // Rounding made the active rows (nearly) dependent: rebuild a clean working set.
           this.normaliseWorkingSet();
           this.factorizeFrom(this.level);
+          this.gradientAge = Infinity;
           continue;
         }
         schurDirty = false;
       }
-      this.gradient();
+      // g = Hx − c is updated by each step (O(n·|F|)); a full product now and then bounds drift.
+      if (this.gradientAge > GRADIENT_REFRESH) this.gradient();
       this.computeStep();
       let pNorm = 0;
       for (let j = 0; j < this.nFree; j++) pNorm = Math.max(pNorm, Math.abs(p[free[j]]));
@@ -399,7 +408,8 @@ export class ActiveSetEngine {
       }
       const norm0 = freeNorm(v, free, nf);
       if (norm0 > 0) {
-        // Two passes of modified Gram–Schmidt ("twice is enough", Giraud et al. 2005).
+        // Two passes of modified Gram–Schmidt (re-orthogonalisation: "twice is enough", Parlett,
+        // The Symmetric Eigenvalue Problem).
         for (let pass = 0; pass < 2; pass++) {
           for (let b = 0; b < kept; b++) {
             const q = this.yRows[b];
@@ -496,6 +506,7 @@ export class ActiveSetEngine {
     const { n, linear } = this.problem;
     this.problem.hessian.multiply(this.x, this.g);
     for (let i = 0; i < n; i++) this.g[i] -= linear[i];
+    this.gradientAge = 0;
   }
 
   /** p_F = H_FF⁻¹(A_Fᵀν − g_F) with ν from the Schur system; p_B = 0. */
@@ -613,10 +624,11 @@ export class ActiveSetEngine {
   }
 
   private takeStep(alpha: number): void {
-    const { lower, upper } = this.problem;
+    const { n, lower, upper } = this.problem;
     const x = this.x;
     const p = this.p;
     const free = this.free;
+    if (alpha === 0) return;
     for (let j = 0; j < this.nFree; j++) {
       const i = free[j];
       let v = x[i] + alpha * p[i];
@@ -625,6 +637,12 @@ export class ActiveSetEngine {
       else if (v > upper[i]) v = upper[i];
       x[i] = v;
     }
+    // g(x + αp) = g(x) + α·Hp.
+    this.problem.hessian.multiplyFree(p, free, this.nFree, this.hp);
+    const g = this.g;
+    const hp = this.hp;
+    for (let i = 0; i < n; i++) g[i] += alpha * hp[i];
+    this.gradientAge++;
   }
 
   private addBlocker(blocker: number): void {

@@ -12,11 +12,14 @@ import { OptimizationError, type ConstraintSet } from './types.js';
  * 2. The nearest point to a guess on {bounds, Σx = budget}: x_i = clip(x⁰_i + τ, l_i, u_i) with τ
  *    found by bisection then made exact on the unclipped set (the projection onto a box ∩
  *    hyperplane has this form; e.g. Held, Wolfe & Crowder 1974 for the simplex).
- * 3. If group limits still fail, the elastic problem (Nocedal & Wright §16.5 / §18.3 "elastic
- *    mode"): minimise Σ_g (e⁺_g + e⁻_g) + (δ/2)(‖x − x⁰‖² + ‖e‖²) with
+ * 3. If group limits still fail and the groups are disjoint, the same projection one level up
+ *    (block sums first, then each block) — exact and cheap; see projectOntoDisjointGroups.
+ * 4. Otherwise (overlapping groups) the elastic problem ("elastic mode", Gill, Murray & Saunders,
+ *    SNOPT, SIAM Review 47(1), 2005): minimise Σ_g (e⁺_g + e⁻_g) + (δ/2)(‖x − x⁰‖² + ‖e‖²) with
  *    min_g ≤ Σ_{i∈g} x_i + e⁺_g − e⁻_g ≤ max_g, e ≥ 0, bounds and budget kept exactly, solved by
- *    the same active-set engine with H = δI. With a small δ the exact-penalty property makes
- *    e = 0 whenever the constraints are consistent; a positive Σe proves they are not.
+ *    the same active-set engine with H = δI. With a small δ the exact-penalty property of the ℓ1
+ *    penalty (Nocedal & Wright §17.2) makes e = 0 whenever the constraints are consistent; a
+ *    positive Σe proves they are not.
  */
 
 /** Tolerance (relative to the weight scale) for calling the constraints inconsistent. */

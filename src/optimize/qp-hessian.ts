@@ -19,8 +19,8 @@ import type { FactorRiskModel } from '../linalg/risk-model.js';
  *   1  H_FF + ρ·Σ_{r∈W} a_r,F a_r,Fᵀ over the working-set rows W (budget and active group
  *      limits), ρ = trace(H)/n. Every step keeps a_rᵀp = 0 for r ∈ W, so the added term never
  *      changes a step or a multiplier; it only makes H_FF positive definite whenever the Hessian
- *      projected on the face is (the augmented-Lagrangian form of the KKT system, Nocedal &
- *      Wright §16.3 / §17.3), without the cancellation a tiny ridge would cause.
+ *      projected on the face is (the augmented-Lagrangian term ρ‖Ap‖² of Nocedal & Wright
+ *      §17.3, which vanishes on the face), without the cancellation a tiny ridge would cause.
  *   2  level 1 + ε·I: a tiny ridge when even the projected Hessian is singular (zero curvature
  *      along some feasible direction); the steps then act as proximal-point steps.
  * Only dense Hessians ever leave level 0: a factor Hessian with positive specific variance and a
@@ -35,6 +35,8 @@ export interface ReducedHessian {
   readonly ridge: number;
   /** out ← H x with the true H (no augmentation, no ridge). */
   multiply(x: Float64Array, out: Float64Array): void;
+  /** out ← H p for a p that is zero outside free[0..nFree) (cheaper than multiply when few are free). */
+  multiplyFree(p: Float64Array, free: Int32Array, nFree: number, out: Float64Array): void;
   /** Switch regularisation; a factorize() must follow. `ridgeBoost` multiplies ε (level 2). */
   setLevel(level: RegularisationLevel, ridgeBoost?: number): void;
   /** Factor the reduced matrix for free[0..nFree) and working-set rows `rows`. false when not (numerically) positive definite. */
@@ -107,6 +109,20 @@ export class DenseReducedHessian implements ReducedHessian {
       let acc = 0;
       for (let j = 0; j < n; j++) acc += m[row + j] * x[j];
       out[i] = s * acc;
+    }
+  }
+
+  multiplyFree(p: Float64Array, free: Int32Array, nFree: number, out: Float64Array): void {
+    const n = this.n;
+    const m = this.matrix;
+    out.fill(0, 0, n);
+    // H is symmetric: column j is row j, read contiguously.
+    for (let k = 0; k < nFree; k++) {
+      const j = free[k];
+      const pj = this.scale * p[j];
+      if (pj === 0) continue;
+      const row = j * n;
+      for (let i = 0; i < n; i++) out[i] += m[row + i] * pj;
     }
   }
 
@@ -233,6 +249,33 @@ export class FactorReducedHessian implements ReducedHessian {
     }
   }
 
+  multiplyFree(p: Float64Array, free: Int32Array, nFree: number, out: Float64Array): void {
+    const { n, k, loadings: b, factorCov: f, specificVar: d } = this.model;
+    const t = this.scratchK;
+    for (let a = 0; a < k; a++) t[a] = 0;
+    for (let q = 0; q < nFree; q++) {
+      const i = free[q];
+      const pi = p[i];
+      const row = i * k;
+      for (let a = 0; a < k; a++) t[a] += b[row + a] * pi;
+    }
+    for (let a = 0; a < k; a++) {
+      let s = 0;
+      for (let c = 0; c < k; c++) s += f[a * k + c] * t[c];
+      t[k + a] = this.factorScale * s;
+    }
+    for (let i = 0; i < n; i++) {
+      const row = i * k;
+      let s = 0;
+      for (let a = 0; a < k; a++) s += b[row + a] * t[k + a];
+      out[i] = s;
+    }
+    for (let q = 0; q < nFree; q++) {
+      const i = free[q];
+      out[i] += this.specificScale * d[i] * p[i];
+    }
+  }
+
   setLevel(): void {
     // Positive definite by construction: nothing to regularise.
   }
@@ -296,6 +339,11 @@ export class DiagonalReducedHessian implements ReducedHessian {
 
   multiply(x: Float64Array, out: Float64Array): void {
     for (let i = 0; i < this.n; i++) out[i] = this.d[i] * x[i];
+  }
+
+  multiplyFree(p: Float64Array, free: Int32Array, nFree: number, out: Float64Array): void {
+    out.fill(0, 0, this.n);
+    for (let q = 0; q < nFree; q++) out[free[q]] = this.d[free[q]] * p[free[q]];
   }
 
   setLevel(): void {

@@ -54,7 +54,7 @@ export interface QpMultipliers {
 /**
  * How the reduced systems were made solvable (see qp-hessian.ts):
  * - 'none': the reduced Hessians were positive definite as given.
- * - 'budget-augmented': some reduced Hessian was singular (e.g. a zero-variance asset, or fewer
+ * - 'augmented': some reduced Hessian was singular (e.g. a zero-variance asset, or fewer
  *   observations than assets), so ρ·Σ_{r∈W} a_r a_rᵀ over the working-set rows (budget and
  *   active group limits, ρ = trace(H)/n) was added. Steps keep a_rᵀp = 0, so iterates and
  *   multipliers are exactly those of the original problem.
@@ -63,7 +63,7 @@ export interface QpMultipliers {
  *   the steps, which then act as proximal-point steps; the point returned still satisfies the
  *   KKT conditions of the original problem (see kktResidual), but it is one of many optima.
  */
-export type QpRegularisation = 'none' | 'budget-augmented' | 'ridge';
+export type QpRegularisation = 'none' | 'augmented' | 'ridge';
 
 export interface QpSolution {
   readonly x: Float64Array;

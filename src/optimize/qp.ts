@@ -55,7 +55,11 @@ export interface QpOptions {
 
 export const DEFAULT_QP_TOLERANCE = 1e-11;
 
-/** Buffers reused across solves of problems up to a given size (grown on demand). */
+/**
+ * Buffers reused across solves (resized on demand). The rows built from a ConstraintSet are
+ * cached per ConstraintSet object: treat constraint sets as immutable (build a new object to
+ * change groups or the budget).
+ */
 export class QpWorkspace {
   readonly engine = new ActiveSetEngine();
   /** Separate engine for the elastic feasibility problem (its own sizes). */
@@ -171,7 +175,7 @@ export function solveQp(problem: QpProblem, options: QpOptions = {}): QpSolution
   hessian.multiply(solutionX, hx);
   let objective = 0;
   for (let i = 0; i < n; i++) objective += solutionX[i] * (0.5 * hx[i] - linear[i]);
-  const regularisation: QpRegularisation = outcome.level === 0 ? 'none' : outcome.level === 1 ? 'budget-augmented' : 'ridge';
+  const regularisation: QpRegularisation = outcome.level === 0 ? 'none' : outcome.level === 1 ? 'augmented' : 'ridge';
   return {
     x: solutionX,
     objective,

@@ -105,13 +105,12 @@ function quadprogSolve(problem: QpProblem, scale: number, matrix: Float64Array):
   return Float64Array.from(result.solution.slice(1));
 }
 
-function time(label: string, repeat: number, run: () => void): number {
-  run(); // warm-up (JIT)
+/** Mean wall time of run() in ms, after a few untimed runs so the JIT has compiled the code. */
+function time(repeat: number, run: () => void, warmups = 3): number {
+  for (let k = 0; k < warmups; k++) run();
   const start = performance.now();
   for (let k = 0; k < repeat; k++) run();
-  const perRun = (performance.now() - start) / repeat;
-  void label;
-  return perRun;
+  return (performance.now() - start) / repeat;
 }
 
 function fmt(ms: number): string {
@@ -141,19 +140,19 @@ for (const n of [10, 50, 200]) {
   let warmIterations = 0;
   const repeats = n === 200 ? 3 : 20;
   const cold =
-    time('cold', repeats, () => {
+    time(repeats, () => {
       coldIterations = 0;
       for (const { problem } of problems) coldIterations += solveQp(problem, { workspace }).iterations;
     }) / draws;
   const warm =
-    time('warm', repeats, () => {
+    time(repeats, () => {
       warmIterations = 0;
       for (const { problem } of problems) warmIterations += solveQp(problem, { workspace, warmStart: baseSolution.warmStart }).iterations;
     }) / draws;
   const quadprogDraws = n === 200 ? problems.slice(0, 5) : problems;
-  const reference = time('quadprog', n === 200 ? 1 : 5, () => {
+  const reference = time(n === 200 ? 1 : 5, () => {
     for (const { problem, cov } of quadprogDraws) quadprogSolve(problem, 5, cov);
-  }) / quadprogDraws.length;
+  }, n === 200 ? 1 : 3) / quadprogDraws.length;
   let worstGap = 0;
   for (const { problem, cov } of quadprogDraws) {
     const ours = solveQp(problem, { workspace, warmStart: baseSolution.warmStart });
@@ -186,7 +185,7 @@ for (const n of [10, 50, 200]) {
   const mvBase = meanVariance(baseModel, base.mean, constraints, 5, { workspace: mvWorkspace });
   const minBase = minimumVariance(baseModel, constraints, { workspace: minWorkspace });
   const inputs = Array.from({ length: 500 }, () => moments(r, n, Int32Array.from({ length: t }, () => Math.floor(rng() * t))));
-  const ms = time('stress', 3, () => {
+  const ms = time(3, () => {
     for (const { mean, cov } of inputs) {
       const model: DenseRiskModel = { kind: 'dense', n, cov };
       meanVariance(model, mean, constraints, 5, { workspace: mvWorkspace, warmStart: mvBase.warmStart });

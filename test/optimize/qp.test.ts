@@ -76,7 +76,12 @@ describe('infeasible constraint sets are reported with a reason naming the const
       upper: [0.5, 0.1, 0.5, 0.5],
       groups: [group('eq', [0, 2], 0.4, 0.4), group('cap', [3], -Infinity, 0.35)],
     });
-    expectInfeasible(dense(n, cov, mu, cs), /group "(eq|cap)".*cannot be met/);
+    // Disjoint groups: the block capacities (0.4, ≤ 0.35, and 0.1 for the ungrouped asset) prove it.
+    expectInfeasible(dense(n, cov, mu, cs), /groups "eq", "cap" and the ungrouped assets can together hold at most 0\.85, below the budget 1/);
+  });
+  it('disjoint groups whose minimums together exceed the budget', () => {
+    const groups = [group('europe', [0, 1], 0.6), group('asia', [2, 3], 0.6)];
+    expectInfeasible(dense(n, cov, mu, constraints(n, { groups })), /groups "europe", "asia".*at least 1\.2, above the budget 1/);
   });
   it('an equality group inconsistent with another', () => {
     const groups = [group('eq', [0, 1], 0.5, 0.5), group('cap', [0, 1, 2], -Infinity, 0.4)];
@@ -120,7 +125,7 @@ describe('singular and unbounded problems', () => {
     expect(result.kktResidual).toBeLessThan(1e-9);
     // Independent check: multipliers estimated from x alone also satisfy KKT.
     expect(kktReport(problem, result.x, estimateMultipliers(problem, result.x)).max).toBeLessThan(1e-9);
-    expect(['budget-augmented', 'ridge', 'none']).toContain(result.regularisation);
+    expect(['augmented', 'ridge', 'none']).toContain(result.regularisation);
   });
 
   it('a duplicated asset: the pair holds what the single asset held (objective unchanged)', () => {
@@ -139,12 +144,12 @@ describe('singular and unbounded problems', () => {
     expect(double.kktResidual).toBeLessThan(1e-9);
   });
 
-  it('a zero-variance (cash) asset is handled exactly by budget augmentation', () => {
+  it('a zero-variance (cash) asset is handled exactly by augmenting the reduced system with the budget row', () => {
     const n = 3;
     const cov = Float64Array.from([0, 0, 0, 0, 0.04, 0.01, 0, 0.01, 0.09]);
     const mu = Float64Array.from([0.01, 0.05, 0.07]);
     const result = solveQp(dense(n, cov, mu, constraints(n, { lower: -Infinity }), 2));
-    expect(result.regularisation).toBe('budget-augmented');
+    expect(result.regularisation).toBe('augmented');
     // Closed form for the risky part: w = Σ_r⁻¹(μ_r − r_f)/λ (Tobin separation; Merton 1972).
     const [a, b, c] = [0.04, 0.01, 0.09];
     const det = a * c - b * b;
@@ -169,6 +174,17 @@ describe('special working sets', () => {
     const result = solveQp(problem);
     expect(result.x[1]).toBe(0.1);
     expect(result.x[0] + result.x[2]).toBeCloseTo(0.4, 12);
+    expect(result.kktResidual).toBeLessThan(1e-9);
+    expect(kktReport(problem, result.x, estimateMultipliers(problem, result.x)).max).toBeLessThan(1e-9);
+  });
+
+  it('overlapping group limits that the projected start breaks are restored by the elastic phase', () => {
+    // Start guess (budget-only optimum, clipped) is far from both limits; the groups share asset 2.
+    const cs = constraints(n, { groups: [group('left', [0, 1, 2], 0.7), group('right', [2, 3, 4], 0.5, 0.55)] });
+    const problem = dense(n, cov, Float64Array.from([0, 0, 0, 0, 0, 0.2]), cs, 2);
+    const result = solveQp(problem);
+    expect(result.phase1Iterations).toBeGreaterThan(0);
+    expect(result.x[0] + result.x[1] + result.x[2]).toBeGreaterThanOrEqual(0.7 - 1e-12);
     expect(result.kktResidual).toBeLessThan(1e-9);
     expect(kktReport(problem, result.x, estimateMultipliers(problem, result.x)).max).toBeLessThan(1e-9);
   });

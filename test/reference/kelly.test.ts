@@ -78,7 +78,7 @@ describe('continuous approximation F* = Σ⁻¹(μ − r) (Thorp 2006; example c
     // Assets: cash with return r = 0.03 and zero variance, then the three risky assets; no
     // position limits. With Σw = 1 the cash holding absorbs the budget, so the risky weights
     // solve max (μ − r)ᵀw − ½wᵀΣw, i.e. F* = Σ⁻¹(μ − r). Cash makes the covariance singular,
-    // which the solver handles exactly (budget augmentation).
+    // which the solver handles exactly (augmented reduced systems, see qp-hessian.ts).
     const vols = [0.15, 0.2, 0.25];
     const corr = [
       [1, 0.3, 0.2],
