@@ -168,6 +168,37 @@ def kelly(returns):
     return primary, check, float(np.mean(np.log(1 + returns @ primary)))
 
 
+def half_kelly(returns):
+    """Fractional Kelly f = 1/2 read as CRRA gamma = 2: maximise (1/T) sum_t (1 - 1/(1 + r_t'w)).
+    CLARABEL reports this power-cone form as inaccurate, so SLSQP finds the support and Newton's
+    method on the budget-constrained KKT system of that support polishes it to rounding level."""
+    t, n = returns.shape
+
+    def negative_utility(v):
+        return -np.mean(1 - 1 / (1 + returns @ v))
+
+    def gradient(v):
+        return -(returns / (1 + returns @ v)[:, None] ** 2).mean(axis=0)
+
+    def hessian(v):
+        weights = 2 / (1 + returns @ v) ** 3
+        return (returns.T * weights) @ returns / t
+
+    start = slsqp(negative_utility, gradient, n)
+    w = clean(start)
+    support = w > 0
+    k = int(support.sum())
+    for _ in range(50):
+        g = gradient(w)[support]
+        h = hessian(w)[np.ix_(support, support)]
+        kkt = np.block([[h, np.ones((k, 1))], [np.ones((1, k)), np.zeros((1, 1))]])
+        step = np.linalg.solve(kkt, np.concatenate([-g, [0.0]]))[:k]
+        w[support] += step
+        if np.max(np.abs(step)) < 1e-16:
+            break
+    return w, start, float(np.mean(1 - 1 / (1 + returns @ w)))
+
+
 def spinu_erc(sigma):
     """Equal risk contribution through Spinu's strictly convex problem, solved by scipy's exact-Hessian trust region."""
     n = sigma.shape[0]
@@ -232,6 +263,8 @@ def main():
     mv_w, mv_check, mv_obj = minimum_variance(sigma)
     mvo_w, mvo_check, mvo_obj = mean_variance(mu, sigma, RISK_AVERSION)
     kelly_w, kelly_check, kelly_obj = kelly(returns)
+    # The log-utility optimum is a corner (all in one stock); half Kelly (gamma = 2) is interior.
+    khalf_w, khalf_check, khalf_obj = half_kelly(returns)
     erc_w, erc_info = spinu_erc(sigma)
     inv_vol = 1.0 / np.sqrt(np.diag(sigma))
     iv_w = inv_vol / inv_vol.sum()
@@ -291,6 +324,16 @@ def main():
                 sigma,
                 kelly_check,
                 kktResidual=kkt_residual(kelly_w, -(returns / (1 + returns @ kelly_w)[:, None]).mean(axis=0)),
+            ),
+            "kellyHalf": method_entry(
+                khalf_w,
+                "(1/T) sum_t (1 - 1/(1 + r_t'w)) (CRRA gamma = 2, fraction 1/2; maximised over the return rows)",
+                khalf_obj,
+                sigma,
+                khalf_check,
+                fraction=0.5,
+                solver="scipy SLSQP for the support, then Newton on the support KKT system (numpy.linalg.solve)",
+                kktResidual=kkt_residual(khalf_w, -(returns / (1 + returns @ khalf_w)[:, None] ** 2).mean(axis=0)),
             ),
         },
     }
