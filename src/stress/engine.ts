@@ -169,7 +169,8 @@ export function solveBaseOptima(
   const solvers = problem.methods.map((spec) => createMethodSolver(spec, problem, { scenarioKelly }));
   let baseScenarios: Float64Array | undefined;
   let rows = 0;
-  if (history && scenarioKelly) {
+  // Scenario rows are built (here and per draw) only when some method reads them.
+  if (history && scenarioKelly && problem.methods.some((m) => m.name === 'kelly')) {
     rows = history.assets.periods;
     baseScenarios = new Float64Array(rows * n);
     // The history moved to the base mean (a no-op without views).
