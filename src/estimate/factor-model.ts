@@ -1,10 +1,10 @@
 import { CholeskyDecomposition, Matrix } from 'ml-matrix';
+import { symmetricEigenDecomposition } from '../linalg/eigen.js';
 import type { FactorRiskModel } from '../linalg/risk-model.js';
 import { columnCrossProducts, columnDot, demeanedColumns } from './cross-products.js';
 import { EstimationError } from './errors.js';
 import { selectedRowCount, requireRows, type ReturnHistory } from './history.js';
 import { sampleCovariance } from './covariance.js';
-import { symmetricEigen } from './symmetric-eigen.js';
 import { outputOrNew, workspaceOrNew, type EstimationWorkspace } from './workspace.js';
 
 /** Output buffers for a factor model (B n×k, F k×k, diag D n); each is allocated when absent. */
@@ -147,7 +147,7 @@ export interface PcaFactorEstimate {
  * orthonormal columns) and F = diag(λ_1..λ_k), so the factors are the principal-component
  * portfolios and F holds their variances; B F Bᵀ = V_k Λ_k V_kᵀ is the best rank-k approximation of S
  * (Eckart–Young). D_i = max(S_ii − Σ_a λ_a V_ia², floor). Eigenvector signs follow
- * symmetricEigen's rule (largest-magnitude entry positive). Eigen-decomposition is O(N³) through
+ * symmetricEigenDecomposition's rule (largest-magnitude entry positive). Eigen-decomposition is O(N³) through
  * ml-matrix: fine for base inputs; per bootstrap draw prefer the regression model when N is large.
  */
 export function pcaFactorModel(history: ReturnHistory, components: number, options: PcaOptions = {}): PcaFactorEstimate {
@@ -158,7 +158,7 @@ export function pcaFactorModel(history: ReturnHistory, components: number, optio
   const k = components;
   const sample = sampleCovariance(history, { rows: options.rows, workspace: options.workspace });
   const s = sample.model.cov;
-  const { values, vectors } = symmetricEigen(s, n);
+  const { values, vectors } = symmetricEigenDecomposition(s, n);
 
   let trace = 0;
   for (let i = 0; i < n; i++) trace += s[i * n + i];

@@ -1,4 +1,4 @@
-import { symmetricEigen } from './symmetric-eigen.js';
+import { symmetricEigenDecomposition } from '../linalg/eigen.js';
 
 /**
  * Checks and repair for covariance matrices that must be symmetric positive semidefinite.
@@ -25,9 +25,9 @@ export function isSymmetric(a: Float64Array, n: number, tolerance = SYMMETRY_TOL
   return relativeAsymmetry(a, n) <= tolerance;
 }
 
-/** Smallest eigenvalue of the symmetric part (A + Aᵀ)/2. */
+/** Smallest eigenvalue of the symmetric part (A + Aᵀ)/2 (the decomposition symmetrises its input). */
 export function smallestEigenvalue(a: Float64Array, n: number): number {
-  const { values } = symmetricEigen(symmetricPart(a, n), n);
+  const { values } = symmetricEigenDecomposition(a, n);
   return values[n - 1];
 }
 
@@ -54,7 +54,7 @@ export interface PsdRepair {
 export function nearestPsd(a: Float64Array, n: number, floor = 0): PsdRepair {
   if (!(floor >= 0) || !Number.isFinite(floor)) throw new RangeError(`PSD floor must be finite and ≥ 0, got ${floor}`);
   const symmetric = symmetricPart(a, n);
-  const { values, vectors } = symmetricEigen(symmetric, n);
+  const { values, vectors } = symmetricEigenDecomposition(symmetric, n);
   const minEigenvalue = values[n - 1];
   let clipped = 0;
   for (let k = 0; k < n; k++) if (values[k] < floor) clipped++;

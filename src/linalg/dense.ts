@@ -74,6 +74,49 @@ export function choleskyOrThrow(a: Float64Array, n: number, minPivotRelative = 0
   return out;
 }
 
+/**
+ * Lower Cholesky factor L (Σ = L Lᵀ, n×n row-major, strict upper triangle zeroed) of a symmetric
+ * positive SEMI-definite matrix, into `out` (allocated when absent). Unlike choleskyDecompose,
+ * singular input is accepted: a sample covariance from fewer rows than assets is singular, yet
+ * N(μ, Σ/T) and Wishart(n, Σ) are still well defined through any L with L Lᵀ = Σ (the
+ * resampling layer's use). A pivot within the round-off tolerance of zero gets a zero column
+ * (exact for a PSD matrix, whose remaining column is then zero too); a pivot clearly below zero
+ * means the matrix is not PSD and throws a RangeError. Column-oriented form of the same
+ * recurrence as choleskyDecompose (Golub & Van Loan §4.2); same sums in the same order, so on an
+ * SPD matrix both give the same factor.
+ */
+export function choleskyPsd(a: Float64Array, n: number, out: Float64Array = new Float64Array(n * n)): Float64Array {
+  if (a.length < n * n || out.length < n * n) throw new RangeError(`choleskyPsd: buffers must hold ${n * n} values`);
+  let maxDiagonal = 0;
+  for (let i = 0; i < n; i++) maxDiagonal = Math.max(maxDiagonal, Math.abs(a[i * n + i]));
+  // Round-off in a Schur complement is of order n·ε·max|a_ii| (the usual backward-error bound
+  // for Cholesky, from memory); 64× that is the floor for "numerically zero".
+  const tolerance = 64 * Math.max(n, 1) * Number.EPSILON * maxDiagonal;
+  for (let j = 0; j < n; j++) {
+    const rowJ = j * n;
+    let pivot = a[rowJ + j];
+    for (let k = 0; k < j; k++) pivot -= out[rowJ + k] * out[rowJ + k];
+    if (pivot < -tolerance || Number.isNaN(pivot)) {
+      throw new RangeError(`matrix is not positive semi-definite (pivot ${pivot} at index ${j})`);
+    }
+    if (pivot <= tolerance) {
+      out[rowJ + j] = 0;
+      for (let i = j + 1; i < n; i++) out[i * n + j] = 0;
+    } else {
+      const diagonal = Math.sqrt(pivot);
+      out[rowJ + j] = diagonal;
+      for (let i = j + 1; i < n; i++) {
+        const rowI = i * n;
+        let s = a[rowI + j];
+        for (let k = 0; k < j; k++) s -= out[rowI + k] * out[rowJ + k];
+        out[rowI + j] = s / diagonal;
+      }
+    }
+    for (let k = j + 1; k < n; k++) out[rowJ + k] = 0; // upper triangle
+  }
+  return out;
+}
+
 /** Solves L y = b in place (b ← y) for the lower-triangular leading n×n block of `l`. */
 export function solveLowerInPlace(l: Float64Array, n: number, b: Float64Array, ld: number = n): Float64Array {
   for (let i = 0; i < n; i++) {

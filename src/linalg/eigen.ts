@@ -3,7 +3,8 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 /**
  * Symmetric eigen-decomposition A = V diag(λ) Vᵀ through ml-matrix (Householder
  * tridiagonalisation + implicit QL, the EISPACK tred2/tql2 route). O(n³) and allocating: meant for
- * base inputs, factor covariances (k×k) and tests, never for inner loops.
+ * base inputs (PCA factor models, PSD checks and repair), factor covariances (k×k) and tests,
+ * never for inner loops. The one eigen wrapper of the code base: src/estimate uses it too.
  */
 export interface SymmetricEigenDecomposition {
   readonly n: number;
@@ -17,7 +18,9 @@ export interface SymmetricEigenDecomposition {
  * Decomposes the symmetric n×n row-major matrix `a` (its symmetric part is used: ½(A + Aᵀ), so
  * rounding-level asymmetry in the caller's input cannot leak into complex eigenvalues).
  * Eigenvector signs are fixed so that the largest-magnitude entry (first on ties) is positive,
- * making the output deterministic.
+ * making the output deterministic; PCA loadings (estimate/factor-model.ts) and their reference
+ * fixtures rely on this rule, so keep it. For exactly symmetric input the symmetrisation changes
+ * nothing (½(x + x) = x in floating point).
  */
 export function symmetricEigenDecomposition(a: Float64Array, n: number): SymmetricEigenDecomposition {
   const rows: number[][] = [];

@@ -15,7 +15,8 @@ export {
   type BlockLengths,
   type HistoryBlockLength,
 } from './block-length.js';
-export { lowerCholesky } from './cholesky.js';
+/** The PSD-tolerant Cholesky factor the parametric draws use (now src/linalg/dense.ts's choleskyPsd). */
+export { choleskyPsd as lowerCholesky } from '../linalg/dense.js';
 export { drawCorrelatedNormal, drawFactorNormal, drawIndependentNormal } from './normal.js';
 export { drawScaledChiSquare, drawWishart } from './wishart.js';
 export {

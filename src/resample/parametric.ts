@@ -1,5 +1,5 @@
+import { choleskyPsd } from '../linalg/dense.js';
 import type { DenseRiskModel, FactorRiskModel, RiskModel } from '../linalg/risk-model.js';
-import { lowerCholesky } from './cholesky.js';
 import { drawCorrelatedNormal, drawFactorNormal, drawIndependentNormal } from './normal.js';
 import { createDrawStream, STREAM_PURPOSE, type RandomStream, type Seed } from './streams.js';
 import { drawScaledChiSquare, drawWishart } from './wishart.js';
@@ -67,7 +67,7 @@ export function prepareParametricBase(input: ParametricBaseInput): ParametricBas
     throw new RangeError(`meanStdErr has ${meanStdErr.length} entries, expected ${risk.n}`);
   }
   if (risk.kind === 'dense') {
-    return { kind: 'dense', n: risk.n, observations, mean, meanStdErr, risk, covLower: lowerCholesky(risk.cov, risk.n) };
+    return { kind: 'dense', n: risk.n, observations, mean, meanStdErr, risk, covLower: choleskyPsd(risk.cov, risk.n) };
   }
   return {
     kind: 'factor',
@@ -77,7 +77,7 @@ export function prepareParametricBase(input: ParametricBaseInput): ParametricBas
     mean,
     meanStdErr,
     risk,
-    factorCovLower: lowerCholesky(risk.factorCov, risk.k),
+    factorCovLower: choleskyPsd(risk.factorCov, risk.k),
   };
 }
 

@@ -2,7 +2,7 @@ import fc from 'fast-check';
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import { isSymmetric, nearestPsd, relativeAsymmetry, smallestEigenvalue, SYMMETRY_TOLERANCE } from '../../src/estimate/psd.js';
-import { symmetricEigen } from '../../src/estimate/symmetric-eigen.js';
+import { symmetricEigenDecomposition } from '../../src/linalg/eigen.js';
 
 function frobenius(a: Float64Array, b: Float64Array): number {
   let s = 0;
@@ -55,7 +55,7 @@ describe('nearestPsd (eigenvalue clipping)', () => {
           }
         }
         const repair = nearestPsd(a, n);
-        const { values } = symmetricEigen(a, n);
+        const { values } = symmetricEigenDecomposition(a, n);
         let negativeSq = 0;
         for (const v of values) if (v < 0) negativeSq += v * v;
         expect(Math.abs(repair.frobeniusDistance - Math.sqrt(negativeSq))).toBeLessThan(1e-12);

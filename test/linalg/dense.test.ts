@@ -7,6 +7,7 @@ import {
   choleskyDecompose,
   choleskyDeleteIndex,
   choleskyOrThrow,
+  choleskyPsd,
   choleskyRankOneUpdate,
   choleskySolveInPlace,
   matTVec,
@@ -15,6 +16,7 @@ import {
   solveLowerTransposeInPlace,
   solveSpd,
 } from '../../src/linalg/dense.js';
+import { parkMiller } from '../helpers/reference-data.js';
 
 // Reference library: ml-matrix (general-purpose numerics) for Cholesky factors and linear solves.
 
@@ -150,6 +152,57 @@ describe('Cholesky updates', () => {
     const dup = Float64Array.from([a[0], a[n], a[2 * n]]);
     expect(choleskyAppend(l2, 3, dup, a[0], 4, 1e-12)).toBe(false);
     expect(l2[3 * 4 + 3]).toBe(0); // the leading factor is left as it was
+  });
+});
+
+describe('choleskyPsd (positive semi-definite input)', () => {
+  // Checked against ml-matrix's CholeskyDecomposition (general-purpose reference library) and by
+  // reconstruction L Lᵀ = A.
+
+  function reconstruct(l: Float64Array, n: number): Float64Array {
+    const out = new Float64Array(n * n);
+    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+      let s = 0;
+      for (let k = 0; k < n; k++) s += l[i * n + k] * l[j * n + k];
+      out[i * n + j] = s;
+    }
+    return out;
+  }
+
+  /** A = G Gᵀ for a G from the Park–Miller LCG (REFERENCES.md generator): SPD when G has full rank. */
+  function gram(n: number, rank: number, seed: number): Float64Array {
+    const next = parkMiller(seed);
+    const g = Float64Array.from({ length: n * rank }, () => next() - 0.5);
+    const a = new Float64Array(n * n);
+    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+      let v = 0;
+      for (let k = 0; k < rank; k++) v += g[i * rank + k] * g[j * rank + k];
+      a[i * n + j] = v;
+    }
+    return a;
+  }
+
+  it('matches ml-matrix on an SPD matrix (8×8) and reconstructs it', () => {
+    const n = 8;
+    const a = gram(n, 12, 99);
+    const l = choleskyPsd(a, n);
+    const reference = new CholeskyDecomposition(toMatrix(a, n)).lowerTriangularMatrix.to1DArray();
+    expect(maxDiff(l, reference)).toBeLessThan(1e-13);
+    expect(maxDiff(reconstruct(l, n), a)).toBeLessThan(1e-14);
+    for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) expect(l[i * n + j]).toBe(0);
+    // Same recurrence as the strict kernel (Golub & Van Loan §4.2): identical factor on SPD input.
+    expect(Array.from(l)).toEqual(Array.from(choleskyOrThrow(a, n)));
+  });
+
+  it('accepts a singular PSD matrix (rank 3 of 6) and still reconstructs it', () => {
+    const n = 6;
+    const a = gram(n, 3, 7);
+    const l = choleskyPsd(a, n);
+    expect(maxDiff(reconstruct(l, n), a)).toBeLessThan(1e-12);
+  });
+
+  it('throws on a matrix that is not PSD', () => {
+    expect(() => choleskyPsd(Float64Array.from([1, 2, 2, 1]), 2)).toThrow(RangeError);
   });
 });
 

@@ -15,18 +15,10 @@ import {
   riskContributionsInto,
   specificVarianceOf,
 } from '../../src/optimize/risk-decomposition.js';
-
-function lcg(seed: number): () => number {
-  // Park–Miller minimal standard generator (REFERENCES.md).
-  let s = seed;
-  return () => {
-    s = (16807 * s) % 2147483647;
-    return s / 2147483647;
-  };
-}
+import { parkMiller } from '../helpers/reference-data.js';
 
 function randomFactorModel(n: number, k: number, seed: number): FactorRiskModel {
-  const u = lcg(seed);
+  const u = parkMiller(seed); // Park–Miller generator (REFERENCES.md)
   const loadings = new Float64Array(n * k).map(() => 2 * u() - 0.5);
   const factorCov = new Float64Array(k * k);
   for (let a = 0; a < k; a++) factorCov[a * k + a] = 0.01 + 0.03 * u();

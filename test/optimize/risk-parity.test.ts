@@ -11,37 +11,14 @@ import {
 } from '../../src/optimize/risk-parity.js';
 import type { ConstraintSet } from '../../src/optimize/types.js';
 import { OptimizationError } from '../../src/optimize/types.js';
-
-function denseFromVolsAndCorrelation(vols: readonly number[], corr: readonly (readonly number[])[]): DenseRiskModel {
-  const n = vols.length;
-  const cov = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) cov[i * n + j] = vols[i] * vols[j] * corr[i][j];
-  return { kind: 'dense', n, cov };
-}
+import { denseFromVolsAndCorrelation, MRT_BLOCK_CORRELATION, MRT_VOLS, parkMiller } from '../helpers/reference-data.js';
 
 // Block example of Maillard, Roncalli & Teïletche (2010); ERC weights in REFERENCES.md.
-const BLOCK = denseFromVolsAndCorrelation(
-  [0.1, 0.2, 0.3, 0.4],
-  [
-    [1, 0.8, 0, 0],
-    [0.8, 1, 0, 0],
-    [0, 0, 1, -0.5],
-    [0, 0, -0.5, 1],
-  ],
-);
+const BLOCK = denseFromVolsAndCorrelation(MRT_VOLS, MRT_BLOCK_CORRELATION);
 const BLOCK_ERC = [0.3836125063, 0.1918062531, 0.2426178518, 0.1819633888];
 
-function lcg(seed: number): () => number {
-  // Park–Miller minimal standard generator (REFERENCES.md), u in (0,1).
-  let s = seed;
-  return () => {
-    s = (16807 * s) % 2147483647;
-    return s / 2147483647;
-  };
-}
-
 function randomFactorModel(n: number, k: number, seed: number): FactorRiskModel {
-  const u = lcg(seed);
+  const u = parkMiller(seed); // Park–Miller generator (REFERENCES.md)
   const loadings = new Float64Array(n * k);
   for (let i = 0; i < n * k; i++) loadings[i] = 1.5 * u() - 0.4;
   const factorCov = new Float64Array(k * k);
@@ -61,7 +38,7 @@ function randomFactorModel(n: number, k: number, seed: number): FactorRiskModel 
 
 /** Same factor model with specific variances perturbed by up to ±10 % (a "nearby" draw). */
 function perturbed(model: FactorRiskModel, seed: number): FactorRiskModel {
-  const u = lcg(seed);
+  const u = parkMiller(seed); // Park–Miller generator (REFERENCES.md)
   return { ...model, specificVar: model.specificVar.map((d) => d * (1 + 0.2 * (u() - 0.5))) };
 }
 

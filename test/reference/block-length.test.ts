@@ -1,6 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { historyMeanBlockLength, optimalBlockLength } from '../../src/resample/block-length.js';
+import { ar1Path } from '../helpers/reference-data.js';
 
 // Automatic block length: Politis & White (2004), Econometric Reviews 23(1), corrected by
 // Patton, Politis & White (2009), Econometric Reviews 28(4). Reference values from the `arch`
@@ -22,23 +23,6 @@ const shared = JSON.parse(readFileSync(new URL('./fixtures/resample-block-length
   cases: BlockCase[];
 };
 
-/** Park–Miller minimal standard LCG, first value after one step (REFERENCES.md generator). */
-function parkMiller(seed: number, count: number): number[] {
-  let s = seed;
-  const out: number[] = [];
-  for (let i = 0; i < count; i++) {
-    s = (16807 * s) % 2147483647;
-    out.push(s / 2147483647);
-  }
-  return out;
-}
-
-function ar1(seed: number, n: number, phi: number): number[] {
-  const e = parkMiller(seed, n).map((u) => u - 0.5);
-  const x = [e[0]];
-  for (let t = 1; t < n; t++) x.push(phi * x[t - 1] + e[t]);
-  return x;
-}
 const extra = JSON.parse(
   readFileSync(new URL('./fixtures/resample-block-length-extra.json', import.meta.url), 'utf8'),
 ) as {
@@ -61,8 +45,9 @@ describe('optimal block length against arch (shared reference/block-length.json 
 
   for (const c of shared.cases) {
     it(`AR(1) φ = ${c.phi}, n = ${c.n}`, () => {
-      // The input is rebuilt from its published generator (seed 20240601), not just read back.
-      expect(ar1(20240601, c.n, c.phi)).toEqual(c.x);
+      // The input is rebuilt from its published generator (seed 20240601; Park–Miller LCG of
+      // REFERENCES.md driving an AR(1)), not just read back.
+      expect(ar1Path(20240601, c.n, c.phi)).toEqual(c.x);
       const got = optimalBlockLength(c.x);
       expect(relativeError(got.stationary, c.stationary)).toBeLessThan(TOLERANCE);
       expect(relativeError(got.circular, c.circular)).toBeLessThan(TOLERANCE);

@@ -7,6 +7,7 @@ import { returnHistoryFromRows } from '../../src/estimate/history.js';
 import { ledoitWolfConstantCorrelation, ledoitWolfIdentity } from '../../src/estimate/ledoit-wolf.js';
 import { sampleMean } from '../../src/estimate/means.js';
 import { EstimationWorkspace } from '../../src/estimate/workspace.js';
+import { parkMiller } from '../helpers/reference-data.js';
 
 // Fixture written by scripts/reference/estimation_reference.py (numpy 2.4.6, scikit-learn 1.9.1):
 // numpy.cov (ddof = 1), weighted numpy.cov for EWMA, sklearn LedoitWolf, numpy.linalg.lstsq, numpy.linalg.eigh.
@@ -60,20 +61,11 @@ function relativeGap(actual: ArrayLike<number>, expected: readonly number[] | re
   return gap / scale;
 }
 
-/** Park–Miller minimal standard LCG (shared/REFERENCES.md), u = s/2147483647 after one step. */
-function parkMiller(seed: number): () => number {
-  let state = seed;
-  return () => {
-    state = (16807 * state) % 2147483647;
-    return state / 2147483647;
-  };
-}
-
 /** The generator stated in estimation_reference.py's docstring. */
 function rebuildInput(): { returns: number[][]; factors: number[][]; rows: number[] } {
   const { seed, periods, assets, factors: k } = fixture.generator;
   const trueLoadings = [[1, 0.2], [0.8, -0.3], [1.2, 0.5], [0.5, 0.9], [0.9, 0]];
-  const next = parkMiller(seed);
+  const next = parkMiller(seed); // Park–Miller LCG of shared/REFERENCES.md
   const returns: number[][] = [];
   const factors: number[][] = [];
   for (let t = 0; t < periods; t++) {

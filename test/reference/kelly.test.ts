@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import type { DenseRiskModel } from '../../src/linalg/risk-model.js';
 import { expectedUtility, kelly, kellyMomentsFallback } from '../../src/optimize/kelly.js';
 import type { ConstraintSet } from '../../src/optimize/types.js';
+import { ex3Covariance } from '../helpers/reference-data.js';
 
 // Outside checks for the scenario Kelly solver. Values: Kelly (1956), Bell System Technical
 // Journal 35(4); Thorp (2006), "The Kelly criterion in blackjack, sports betting and the stock
@@ -79,15 +80,11 @@ describe('continuous approximation F* = Σ⁻¹(μ − r) (Thorp 2006; example c
     // position limits. With Σw = 1 the cash holding absorbs the budget, so the risky weights
     // solve max (μ − r)ᵀw − ½wᵀΣw, i.e. F* = Σ⁻¹(μ − r). Cash makes the covariance singular,
     // which the solver handles exactly (augmented reduced systems, see qp-hessian.ts).
-    const vols = [0.15, 0.2, 0.25];
-    const corr = [
-      [1, 0.3, 0.2],
-      [0.3, 1, 0.4],
-      [0.2, 0.4, 1],
-    ];
+    // Risky block: EX3 (REFERENCES.md), σ = (0.15, 0.20, 0.25), correlation [[1,.3,.2],[.3,1,.4],[.2,.4,1]].
+    const risky = ex3Covariance();
     const n = 4;
     const cov = new Float64Array(n * n);
-    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) cov[(i + 1) * n + (j + 1)] = vols[i] * vols[j] * corr[i][j];
+    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) cov[(i + 1) * n + (j + 1)] = risky[i * 3 + j];
     const model: DenseRiskModel = { kind: 'dense', n, cov };
     const mean = Float64Array.from([0.03, 0.08, 0.1, 0.12]);
     const free: ConstraintSet = { n, lower: new Float64Array(n).fill(-Infinity), upper: new Float64Array(n).fill(Infinity), budget: 1, groups: [] };

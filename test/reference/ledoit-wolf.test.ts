@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { createReturnHistory, returnHistoryFromRows, type ReturnHistory } from '../../src/estimate/history.js';
 import { ledoitWolfConstantCorrelation, ledoitWolfIdentity } from '../../src/estimate/ledoit-wolf.js';
+import { parkMiller } from '../helpers/reference-data.js';
 
 // Inputs and scikit-learn 1.9.1 outputs (sklearn.covariance.LedoitWolf), copied from the team's shared reference set into fixtures/ledoit-wolf.json.
 interface LedoitWolfCase {
@@ -14,18 +15,9 @@ const reference = JSON.parse(
   readFileSync(new URL('./fixtures/ledoit-wolf.json', import.meta.url), 'utf8'),
 ) as { cases: LedoitWolfCase[] };
 
-/** Park–Miller minimal standard LCG as stated in shared/REFERENCES.md (u = s/2147483647 after one step). */
-function parkMiller(seed: number): () => number {
-  let state = seed;
-  return () => {
-    state = (16807 * state) % 2147483647;
-    return state / 2147483647;
-  };
-}
-
 /** The 40×3 case's generator as stated in the reference file: X0=U0; X1=U1+0.5U0; X2=U2+0.3U0−0.2U1. */
 function lcg40x3(): ReturnHistory {
-  const next = parkMiller(12345);
+  const next = parkMiller(12345); // Park–Miller LCG of shared/REFERENCES.md
   const values = new Float64Array(120);
   for (let t = 0; t < 40; t++) {
     const u0 = next() - 0.5;

@@ -1,20 +1,14 @@
 import { Matrix, inverse } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import type { DenseRiskModel, FactorRiskModel } from '../../src/linalg/risk-model.js';
+import type { DenseRiskModel } from '../../src/linalg/risk-model.js';
 import { toDenseCovariance } from '../../src/linalg/risk-ops.js';
 import { meanVariance } from '../../src/optimize/mean-variance.js';
 import { minimumVariance } from '../../src/optimize/minimum-variance.js';
 import type { ConstraintSet } from '../../src/optimize/types.js';
+import { constantCorrelation, denseFromVolsAndCorrelation, ex3Means, ex3Model, ex4fMeans, ex4fModel, MRT_BLOCK_CORRELATION, MRT_VOLS } from '../helpers/reference-data.js';
 
 // Outside checks for the QP-based Markowitz methods. Published / computed values are listed in
 // /work/shared/REFERENCES.md; each check names its source beside it.
-
-function denseModel(vols: readonly number[], corr: readonly (readonly number[])[]): DenseRiskModel {
-  const n = vols.length;
-  const cov = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) cov[i * n + j] = vols[i] * vols[j] * corr[i][j];
-  return { kind: 'dense', n, cov };
-}
 
 function budgetOnly(n: number): ConstraintSet {
   return { n, lower: new Float64Array(n).fill(-Infinity), upper: new Float64Array(n).fill(Infinity), budget: 1, groups: [] };
@@ -38,13 +32,8 @@ function variance(model: DenseRiskModel, w: ArrayLike<number>): number {
 }
 
 // EX3 (REFERENCES.md "Markowitz closed forms"; Merton 1972, JFQA 7(4)).
-const EX3_CORR = [
-  [1, 0.3, 0.2],
-  [0.3, 1, 0.4],
-  [0.2, 0.4, 1],
-];
-const ex3 = denseModel([0.15, 0.2, 0.25], EX3_CORR);
-const ex3Mean = Float64Array.from([0.08, 0.1, 0.12]);
+const ex3 = ex3Model();
+const ex3Mean = ex3Means();
 const EX3_C = 57.20316622691294; // 1ᵀΣ⁻¹1 (REFERENCES.md, computed)
 const EX3_A = 5.133509234828497; // 1ᵀΣ⁻¹μ
 
@@ -103,16 +92,8 @@ describe('Markowitz closed forms on EX3 (Merton 1972; values computed in REFEREN
 });
 
 // EX4F (REFERENCES.md "Factor form").
-const ex4f: FactorRiskModel = {
-  kind: 'factor',
-  n: 4,
-  k: 2,
-  factorNames: ['f1', 'f2'],
-  loadings: Float64Array.from([1, 0.2, 0.9, -0.3, 1.1, 0.5, 0.8, 0]),
-  factorCov: Float64Array.from([0.04, 0.002, 0.002, 0.01]),
-  specificVar: Float64Array.from([0.01, 0.02, 0.015, 0.03]),
-};
-const ex4fMean = Float64Array.from([0.06, 0.05, 0.07, 0.04]);
+const ex4f = ex4fModel();
+const ex4fMean = ex4fMeans();
 
 describe('factor-form mean-variance on EX4F (REFERENCES.md, computed)', () => {
   it('λ_f = 4, λ_s = 10 → w = M⁻¹(μ − η1), M = λ_f BFBᵀ + λ_s D', () => {
@@ -140,20 +121,11 @@ describe('factor-form mean-variance on EX4F (REFERENCES.md, computed)', () => {
 
 // Maillard, Roncalli & Teïletche (2010), J. Portfolio Management 36(4): long-only minimum variance
 // for σ = (10, 20, 30, 40) % (values as listed in REFERENCES.md, "Risk parity").
-const VOLS = [0.1, 0.2, 0.3, 0.4];
-
-function constantCorrelation(n: number, rho: number): number[][] {
-  return Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : rho)));
-}
+const VOLS = MRT_VOLS;
 
 describe('long-only minimum variance (Maillard, Roncalli & Teïletche 2010)', () => {
   it('block correlation [[1,.8,0,0],[.8,1,0,0],[0,0,1,−.5],[0,0,−.5,1]] → (108, 0, 22, 15)/145, vol 0.0863033943', () => {
-    const model = denseModel(VOLS, [
-      [1, 0.8, 0, 0],
-      [0.8, 1, 0, 0],
-      [0, 0, 1, -0.5],
-      [0, 0, -0.5, 1],
-    ]);
+    const model = denseFromVolsAndCorrelation(VOLS, MRT_BLOCK_CORRELATION);
     const result = minimumVariance(model, longOnly(4));
     expect(maxAbsDiff(result.weights, [108 / 145, 0, 22 / 145, 15 / 145])).toBeLessThan(1e-9);
     expect(Math.abs(Math.sqrt(variance(model, result.weights)) - 0.0863033943)).toBeLessThan(1e-10);
@@ -161,12 +133,12 @@ describe('long-only minimum variance (Maillard, Roncalli & Teïletche 2010)', ()
   });
 
   it('constant ρ = 0.5 → (1, 0, 0, 0)', () => {
-    const result = minimumVariance(denseModel(VOLS, constantCorrelation(4, 0.5)), longOnly(4));
+    const result = minimumVariance(denseFromVolsAndCorrelation(VOLS, constantCorrelation(4, 0.5)), longOnly(4));
     expect(maxAbsDiff(result.weights, [1, 0, 0, 0])).toBeLessThan(1e-9);
   });
 
   it('constant ρ = 0 → ∝ 1/σ² = (0.7024390244, 0.1756097561, 0.0780487805, 0.0439024390)', () => {
-    const result = minimumVariance(denseModel(VOLS, constantCorrelation(4, 0)), longOnly(4));
+    const result = minimumVariance(denseFromVolsAndCorrelation(VOLS, constantCorrelation(4, 0)), longOnly(4));
     const inv = VOLS.map((s) => 1 / (s * s));
     const total = inv.reduce((a, b) => a + b, 0);
     expect(maxAbsDiff(result.weights, inv.map((v) => v / total))).toBeLessThan(1e-9);

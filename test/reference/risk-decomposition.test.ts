@@ -1,5 +1,4 @@
 import { describe, expect, it } from 'vitest';
-import type { DenseRiskModel, FactorRiskModel } from '../../src/linalg/risk-model.js';
 import {
   decomposeRisk,
   diversificationRatioOf,
@@ -7,25 +6,12 @@ import {
   effectiveNumberOfBets,
   riskContributionSharesInto,
 } from '../../src/optimize/risk-decomposition.js';
+import { constantCorrelation, denseFromVolsAndCorrelation, ex3Model, ex4fModel } from '../helpers/reference-data.js';
 
 // Outside checks for the risk decomposition metrics (values in /work/shared/REFERENCES.md).
 
-function denseFromVolsAndCorrelation(vols: readonly number[], corr: readonly (readonly number[])[]): DenseRiskModel {
-  const n = vols.length;
-  const cov = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) cov[i * n + j] = vols[i] * vols[j] * corr[i][j];
-  return { kind: 'dense', n, cov };
-}
-
 // EX3 of REFERENCES.md: σ = (0.15, 0.20, 0.25), correlation [[1,.3,.2],[.3,1,.4],[.2,.4,1]].
-const EX3 = denseFromVolsAndCorrelation(
-  [0.15, 0.2, 0.25],
-  [
-    [1, 0.3, 0.2],
-    [0.3, 1, 0.4],
-    [0.2, 0.4, 1],
-  ],
-);
+const EX3 = ex3Model();
 const W = Float64Array.of(0.5, 0.3, 0.2);
 
 describe('Euler risk contributions (Tasche 2008, arXiv:0708.2542)', () => {
@@ -49,8 +35,7 @@ describe('diversification ratio (Choueifaty & Coignard 2008)', () => {
   it('equal weights, equal vols, constant ρ: √(N/(1+(N−1)ρ)); N = 4, ρ = 0.5 → 1.2649110641', () => {
     // Choueifaty & Coignard (2008), J. Portfolio Management 35(1); value in REFERENCES.md.
     const n = 4;
-    const corr = Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : 0.5)));
-    const model = denseFromVolsAndCorrelation([0.2, 0.2, 0.2, 0.2], corr);
+    const model = denseFromVolsAndCorrelation([0.2, 0.2, 0.2, 0.2], constantCorrelation(n, 0.5));
     const w = new Float64Array(n).fill(0.25);
     const dr = decomposeRisk(model, w).diversificationRatio;
     expect(Math.abs(dr - 1.2649110641)).toBeLessThan(1e-10);
@@ -77,8 +62,7 @@ describe('effective number of bets (Meucci 2009, Risk 22(5))', () => {
     // Meucci (2009): the entropy is largest, N bets, when variance is spread evenly over the
     // principal components; for a diagonal Σ with distinct variances these are the assets.
     const vols = [0.1, 0.15, 0.22, 0.3, 0.45];
-    const corr = vols.map((_, i) => vols.map((__, j) => (i === j ? 1 : 0)));
-    const model = denseFromVolsAndCorrelation(vols, corr);
+    const model = denseFromVolsAndCorrelation(vols, constantCorrelation(vols.length, 0));
     const inv = vols.map((s) => 1 / s);
     const total = inv.reduce((a, b) => a + b, 0);
     expect(Math.abs(effectiveNumberOfBets(model, inv.map((v) => v / total)) - vols.length)).toBeLessThan(1e-12);
@@ -90,26 +74,8 @@ describe('effective number of bets (Meucci 2009, Risk 22(5))', () => {
 describe('factor / specific split on EX4F (REFERENCES.md factor example)', () => {
   // B, F, D of example EX4F; the split must add up to the variance of the expanded Σ = BFBᵀ + D,
   // computed here by plain loops.
-  const loadings = [
-    [1, 0.2],
-    [0.9, -0.3],
-    [1.1, 0.5],
-    [0.8, 0],
-  ];
-  const F = [
-    [0.04, 0.002],
-    [0.002, 0.01],
-  ];
-  const D = [0.01, 0.02, 0.015, 0.03];
-  const model: FactorRiskModel = {
-    kind: 'factor',
-    n: 4,
-    k: 2,
-    factorNames: ['f1', 'f2'],
-    loadings: Float64Array.from(loadings.flat()),
-    factorCov: Float64Array.from(F.flat()),
-    specificVar: Float64Array.from(D),
-  };
+  const model = ex4fModel();
+  const { loadings: B, factorCov: F, specificVar: D } = model;
   const w = [0.383650128362, 0.248291923166, 0.196069786818, 0.171988161654];
 
   it('wᵀBFBᵀw + wᵀDw equals wᵀΣw of the expanded matrix', () => {
@@ -118,7 +84,7 @@ describe('factor / specific split on EX4F (REFERENCES.md factor example)', () =>
     for (let i = 0; i < 4; i++) {
       for (let j = 0; j < 4; j++) {
         let bfb = 0;
-        for (let a = 0; a < 2; a++) for (let c = 0; c < 2; c++) bfb += loadings[i][a] * F[a][c] * loadings[j][c];
+        for (let a = 0; a < 2; a++) for (let c = 0; c < 2; c++) bfb += B[i * 2 + a] * F[a * 2 + c] * B[j * 2 + c];
         factorVar += w[i] * bfb * w[j];
         total += w[i] * (bfb + (i === j ? D[i] : 0)) * w[j];
       }

@@ -4,20 +4,11 @@ import type { DenseRiskModel, FactorRiskModel } from '../../src/linalg/risk-mode
 import { toDenseCovariance } from '../../src/linalg/risk-ops.js';
 import { solveRiskParity } from '../../src/optimize/risk-parity.js';
 import type { RiskParityResult } from '../../src/optimize/risk-parity.js';
+import { constantCorrelation, denseFromVolsAndCorrelation, MRT_BLOCK_CORRELATION, MRT_VOLS, parkMiller } from '../helpers/reference-data.js';
 
 // Outside checks for risk parity / risk budgeting. Published values are in
 // /work/shared/REFERENCES.md; every check names its source.
 
-function denseFromVolsAndCorrelation(vols: readonly number[], corr: readonly (readonly number[])[]): DenseRiskModel {
-  const n = vols.length;
-  const cov = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) cov[i * n + j] = vols[i] * vols[j] * corr[i][j];
-  return { kind: 'dense', n, cov };
-}
-
-function constantCorrelation(n: number, rho: number): number[][] {
-  return Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => (i === j ? 1 : rho)));
-}
 
 /** Volatility √(wᵀΣw) by plain loops, independent of the code under test. */
 function volatility(model: DenseRiskModel, w: ArrayLike<number>): number {
@@ -65,7 +56,8 @@ function solveBoth(model: DenseRiskModel | FactorRiskModel, budgets?: readonly n
   return results;
 }
 
-const VOLS = [0.1, 0.2, 0.3, 0.4];
+// σ = (10, 20, 30, 40) % of Maillard, Roncalli & Teïletche (2010) (REFERENCES.md).
+const VOLS = MRT_VOLS;
 
 describe('risk parity against Maillard, Roncalli & Teïletche (2010)', () => {
   it('two assets: ERC weights are ∝ 1/σ whatever the correlation', () => {
@@ -104,12 +96,8 @@ describe('risk parity against Maillard, Roncalli & Teïletche (2010)', () => {
     }
   });
 
-  const blockCorrelation = [
-    [1, 0.8, 0, 0],
-    [0.8, 1, 0, 0],
-    [0, 0, 1, -0.5],
-    [0, 0, -0.5, 1],
-  ];
+  // Their block correlation [[1,.8,0,0],[.8,1,0,0],[0,0,1,−.5],[0,0,−.5,1]] (REFERENCES.md).
+  const blockCorrelation = MRT_BLOCK_CORRELATION;
 
   it('block correlation example: ERC weights, vol 0.1029340369, 1/N vol 0.1151086443', () => {
     // Maillard, Roncalli & Teïletche (2010), worked example with a block correlation matrix.
@@ -167,17 +155,8 @@ describe('risk parity on real data against scipy (vega-datasets stocks, scripts/
 });
 
 describe('solver paths agree', () => {
-  /** Deterministic Park–Miller LCG (REFERENCES.md generator), u in (0,1). */
-  function lcg(seed: number): () => number {
-    let s = seed;
-    return () => {
-      s = (16807 * s) % 2147483647;
-      return s / 2147483647;
-    };
-  }
-
   function randomFactorModel(n: number, k: number, seed: number): FactorRiskModel {
-    const u = lcg(seed);
+    const u = parkMiller(seed); // Park–Miller generator (REFERENCES.md)
     const loadings = new Float64Array(n * k);
     for (let i = 0; i < n * k; i++) loadings[i] = 1.6 * u() - 0.5;
     const a = new Float64Array(k * k);

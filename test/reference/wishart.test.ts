@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import type { DenseRiskModel, FactorRiskModel } from '../../src/linalg/risk-model.js';
+import { choleskyPsd } from '../../src/linalg/dense.js';
+import type { DenseRiskModel } from '../../src/linalg/risk-model.js';
 import { toDenseCovariance } from '../../src/linalg/risk-ops.js';
-import { lowerCholesky } from '../../src/resample/cholesky.js';
 import {
   createParametricScratch,
   createResampledRiskModel,
@@ -11,6 +11,7 @@ import {
 } from '../../src/resample/parametric.js';
 import { createDrawStream } from '../../src/resample/streams.js';
 import { drawScaledChiSquare, drawWishart } from '../../src/resample/wishart.js';
+import { ex3Covariance, ex3Means, ex4fMeans, ex4fModel } from '../helpers/reference-data.js';
 
 // Wishart moments (REFERENCES.md, "Sampling"; Anderson 2003, An Introduction to Multivariate
 // Statistical Analysis, ch. 7, from memory): for W ~ Wishart(n, V), E[W] = nV,
@@ -23,14 +24,8 @@ import { drawScaledChiSquare, drawWishart } from '../../src/resample/wishart.js'
 const Z = 5;
 
 // EX3 (REFERENCES.md): σ = (0.15, 0.20, 0.25), correlation [[1,.3,.2],[.3,1,.4],[.2,.4,1]].
-const SIGMA = [0.15, 0.2, 0.25];
-const CORR = [
-  [1, 0.3, 0.2],
-  [0.3, 1, 0.4],
-  [0.2, 0.4, 1],
-];
 const P = 3;
-const V = Float64Array.from({ length: P * P }, (_, k) => SIGMA[Math.floor(k / P)] * SIGMA[k % P] * CORR[Math.floor(k / P)][k % P]);
+const V = ex3Covariance();
 
 function det3(m: Float64Array): number {
   return (
@@ -87,7 +82,7 @@ class Moments {
 }
 
 function checkWishartMoments(df: number, draws: number, seed: string): void {
-  const lower = lowerCholesky(V, P);
+  const lower = choleskyPsd(V, P);
   const w = new Float64Array(P * P);
   const scratch = new Float64Array(P * P);
   const moments = new Moments(P * P + 1, draws);
@@ -127,21 +122,21 @@ describe('Wishart draws (Bartlett decomposition) match the published moments', (
   it('singular n = 2 < p = 3 (sum of outer products): moments hold and det W = 0', () => {
     checkWishartMoments(2, 20_000, 'wishart-2');
     const w = new Float64Array(P * P);
-    drawWishart(createDrawStream('rank', 0), lowerCholesky(V, P), P, 2, 1, w, new Float64Array(P * P));
+    drawWishart(createDrawStream('rank', 0), choleskyPsd(V, P), P, 2, 1, w, new Float64Array(P * P));
     expect(Math.abs(det3(w))).toBeLessThan(1e-15); // rank 2: determinant zero up to round-off
   });
 
   it('symmetric output, and n ≤ p − 1 must be an integer', () => {
     const w = new Float64Array(P * P);
-    drawWishart(createDrawStream('sym', 0), lowerCholesky(V, P), P, 5, 1, w, new Float64Array(P * P));
+    drawWishart(createDrawStream('sym', 0), choleskyPsd(V, P), P, 5, 1, w, new Float64Array(P * P));
     for (let i = 0; i < P; i++) for (let j = 0; j < P; j++) expect(w[i * P + j]).toBe(w[j * P + i]);
-    expect(() => drawWishart(createDrawStream('x', 0), lowerCholesky(V, P), P, 1.5, 1, w, new Float64Array(P * P))).toThrow(RangeError);
+    expect(() => drawWishart(createDrawStream('x', 0), choleskyPsd(V, P), P, 1.5, 1, w, new Float64Array(P * P))).toThrow(RangeError);
   });
 });
 
 describe('parametric scheme: Σ_b ~ Wishart(T−1, Σ/(T−1)) and μ_b ~ N(μ, Σ/T)', () => {
   const T = 24;
-  const mu = Float64Array.from([0.08, 0.1, 0.12]);
+  const mu = ex3Means(); // EX3 μ (REFERENCES.md)
   const dense: DenseRiskModel = { kind: 'dense', n: P, cov: V };
 
   it('E[Σ_b] = Σ and Var(Σ_b,ij) = (Σ_ij² + Σ_ii Σ_jj)/(T−1), within 5 SE', () => {
@@ -173,14 +168,14 @@ describe('parametric scheme: Σ_b ~ Wishart(T−1, Σ/(T−1)) and μ_b ~ N(μ, 
 
   it('factor model (EX4F): μ_b ~ N(μ, (BFBᵀ + D)/T) without forming N×N', () => {
     // EX4F (REFERENCES.md): B = [[1,.2],[.9,−.3],[1.1,.5],[.8,0]], F = [[.04,.002],[.002,.01]], D = diag(.01,.02,.015,.03).
-    const factor = ex4f();
-    const mean4 = Float64Array.from([0.06, 0.05, 0.07, 0.04]);
+    const factor = ex4fModel();
+    const mean4 = ex4fMeans(); // EX4F μ (REFERENCES.md)
     const base = prepareParametricBase({ mean: mean4, risk: factor, observations: T });
     checkNormalDraws(base, mean4, toDenseCovariance(factor), T, 'mu-factor');
   });
 
   it('factor model: E[F_b] = F, Var(F_b,ij) = (F_ij² + F_iiF_jj)/(T−1); E[D_b,i] = D_i, Var = 2D_i²/(T−1)', () => {
-    const factor = ex4f();
+    const factor = ex4fModel();
     const base = prepareParametricBase({ mean: new Float64Array(4), risk: factor, observations: T });
     const scratch = createParametricScratch(base);
     const target = createResampledRiskModel(base);
@@ -234,18 +229,6 @@ describe('parametric scheme: Σ_b ~ Wishart(T−1, Σ/(T−1)) and μ_b ~ N(μ, 
     expect(Math.abs(v.value - 2 * 0.09)).toBeLessThan(Z * v.standardError);
   });
 });
-
-function ex4f(): FactorRiskModel {
-  return {
-    kind: 'factor',
-    n: 4,
-    k: 2,
-    factorNames: ['f1', 'f2'],
-    loadings: Float64Array.from([1, 0.2, 0.9, -0.3, 1.1, 0.5, 0.8, 0]),
-    factorCov: Float64Array.from([0.04, 0.002, 0.002, 0.01]),
-    specificVar: Float64Array.from([0.01, 0.02, 0.015, 0.03]),
-  };
-}
 
 /** μ_b's mean within 5 exact SE of μ; its covariance within 5 SE of cov/T. */
 function checkNormalDraws(

@@ -1,26 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { historyMeanBlockLength, optimalBlockLength } from '../../src/resample/block-length.js';
+import { ar1Path, parkMillerUniforms } from '../helpers/reference-data.js';
 
 // Behaviour of the aggregation and guard rules around the arch-matching core (the arch values
 // themselves are checked in test/reference/block-length.test.ts).
-
-/** Park–Miller minimal standard LCG (REFERENCES.md generator), first value after one step. */
-function parkMiller(seed: number, count: number): number[] {
-  let s = seed;
-  const out: number[] = [];
-  for (let i = 0; i < count; i++) {
-    s = (16807 * s) % 2147483647;
-    out.push(s / 2147483647);
-  }
-  return out;
-}
-
-function ar1(seed: number, n: number, phi: number): number[] {
-  const e = parkMiller(seed, n).map((u) => u - 0.5);
-  const x = [e[0]];
-  for (let t = 1; t < n; t++) x.push(phi * x[t - 1] + e[t]);
-  return x;
-}
 
 function columns(cols: number[][]): Float64Array {
   const nRows = cols[0].length;
@@ -35,21 +18,21 @@ describe('optimalBlockLength', () => {
   });
 
   it('is invariant to shifting and scaling the series (autocorrelation-based)', () => {
-    const x = ar1(5, 400, 0.6);
+    const x = ar1Path(5, 400, 0.6);
     const a = optimalBlockLength(x);
     const b = optimalBlockLength(x.map((v) => 3 * v + 7));
     expect(b.stationary).toBeCloseTo(a.stationary, 10);
   });
 
   it('grows with persistence (Politis & White 2004: b ∝ (G/σ²)^{2/3})', () => {
-    const lengths = [0.2, 0.5, 0.8].map((phi) => optimalBlockLength(ar1(9, 1000, phi)).stationary);
+    const lengths = [0.2, 0.5, 0.8].map((phi) => optimalBlockLength(ar1Path(9, 1000, phi)).stationary);
     expect(lengths[0]).toBeLessThan(lengths[1]);
     expect(lengths[1]).toBeLessThan(lengths[2]);
   });
 
   it('handles series shorter than arch accepts (n ≤ 8) without NaN', () => {
     for (const n of [2, 3, 5, 8]) {
-      const r = optimalBlockLength(ar1(3, n, 0.5));
+      const r = optimalBlockLength(ar1Path(3, n, 0.5));
       expect(Number.isFinite(r.stationary)).toBe(true);
       expect(r.stationary).toBeLessThanOrEqual(Math.ceil(Math.min(3 * Math.sqrt(n), n / 3)));
     }
@@ -58,9 +41,9 @@ describe('optimalBlockLength', () => {
 });
 
 describe('historyMeanBlockLength', () => {
-  const a = ar1(21, 300, 0.1);
-  const b = ar1(22, 300, 0.5);
-  const c = ar1(23, 300, 0.9);
+  const a = ar1Path(21, 300, 0.1);
+  const b = ar1Path(22, 300, 0.5);
+  const c = ar1Path(23, 300, 0.9);
   const data = columns([a, b, c]);
   const perColumn = [a, b, c].map((x) => optimalBlockLength(x).stationary);
 
@@ -75,7 +58,7 @@ describe('historyMeanBlockLength', () => {
   });
 
   it('clamps to at least 1 (white noise can give less) and at most the number of rows', () => {
-    const noise = parkMiller(31, 40).map((u) => u - 0.5);
+    const noise = parkMillerUniforms(31, 40).map((u) => u - 0.5); // Park–Miller LCG (REFERENCES.md)
     const raw = optimalBlockLength(noise).stationary;
     const result = historyMeanBlockLength(Float64Array.from(noise), 40, 1);
     expect(result.meanBlockLength).toBe(Math.max(1, raw));

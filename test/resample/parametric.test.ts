@@ -9,27 +9,17 @@ import {
   prepareParametricBase,
 } from '../../src/resample/parametric.js';
 import { createDrawStream } from '../../src/resample/streams.js';
+import { ex3Means, ex3Model, ex4fModel } from '../helpers/reference-data.js';
 
 // Common random numbers for the stress channels (joint, mean-only, covariance-only): the mean
 // noise of draw b comes only from stream (seed, b, 'mean') and the covariance noise only from
 // (seed, b, 'cov'). The distributional checks are in test/reference/wishart.test.ts.
 
-// EX3 covariance (REFERENCES.md).
-const SIGMA = [0.15, 0.2, 0.25];
-const CORR = [1, 0.3, 0.2, 0.3, 1, 0.4, 0.2, 0.4, 1];
-const COV = Float64Array.from(CORR, (r, k) => r * SIGMA[Math.floor(k / 3)] * SIGMA[k % 3]);
-const dense: DenseRiskModel = { kind: 'dense', n: 3, cov: COV };
-const MU = Float64Array.from([0.08, 0.1, 0.12]);
-
-const factor: FactorRiskModel = {
-  kind: 'factor',
-  n: 4,
-  k: 2,
-  factorNames: ['f1', 'f2'],
-  loadings: Float64Array.from([1, 0.2, 0.9, -0.3, 1.1, 0.5, 0.8, 0]),
-  factorCov: Float64Array.from([0.04, 0.002, 0.002, 0.01]),
-  specificVar: Float64Array.from([0.01, 0.02, 0.015, 0.03]),
-};
+// EX3 covariance and means (REFERENCES.md).
+const dense: DenseRiskModel = ex3Model();
+const MU = ex3Means();
+// EX4F factor model (REFERENCES.md "Factor form").
+const factor: FactorRiskModel = ex4fModel();
 
 function riskValues(model: RiskModel): number[] {
   return model.kind === 'dense' ? Array.from(model.cov) : [...model.factorCov, ...model.specificVar];
@@ -84,7 +74,7 @@ describe('drawParametricInputs — common random numbers', () => {
 
 describe('prepareParametricBase and draws: shapes and guards', () => {
   it('Σ_b is symmetric PSD-shaped and positive on the diagonal; the base is untouched', () => {
-    const before = Array.from(COV);
+    const before = Array.from(dense.cov);
     const base = prepareParametricBase({ mean: MU, risk: dense, observations: 12 });
     const target = createResampledRiskModel(base);
     drawParametricRiskModel(createDrawStream('s', 0, 'cov'), base, target, createParametricScratch(base));
@@ -93,7 +83,7 @@ describe('prepareParametricBase and draws: shapes and guards', () => {
       expect(target.cov[i * 3 + i]).toBeGreaterThan(0);
       for (let j = 0; j < 3; j++) expect(target.cov[i * 3 + j]).toBe(target.cov[j * 3 + i]);
     }
-    expect(Array.from(COV)).toEqual(before);
+    expect(Array.from(dense.cov)).toEqual(before);
   });
 
   it('T ≤ N (singular Wishart, T − 1 < N) still draws, with rank T − 1', () => {

@@ -1,6 +1,7 @@
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import { ChannelVarianceAccumulator } from '../../src/stress/channel-variance.js';
+import { shuffledIndices } from '../helpers/draw-order.js';
 
 // meanDrivenShare_i = Var_mean(w_i)/(Var_mean(w_i) + Var_cov(w_i)) as specified in the design;
 // numbers against numpy.var(ddof=1) are in test/reference/statistics.test.ts.
@@ -10,16 +11,6 @@ function rowOf(b: number, channel: string, scale: number, out: Float64Array): Fl
   const random = seedrandom(`${channel}-${b}`);
   for (let i = 0; i < N; i++) out[i] = 0.25 + scale * (random() - 0.5);
   return out;
-}
-
-function shuffled(count: number, seed: string): number[] {
-  const random = seedrandom(seed);
-  const order = Array.from({ length: count }, (_, k) => k);
-  for (let k = count - 1; k > 0; k--) {
-    const j = Math.floor(random() * (k + 1));
-    [order[k], order[j]] = [order[j], order[k]];
-  }
-  return order;
 }
 
 describe('ChannelVarianceAccumulator', () => {
@@ -36,11 +27,11 @@ describe('ChannelVarianceAccumulator', () => {
     const inOrder = new ChannelVarianceAccumulator(B, N);
     fill(inOrder, Array.from({ length: B }, (_, b) => b));
     const reordered = new ChannelVarianceAccumulator(B, N);
-    fill(reordered, shuffled(B, 'channels'));
+    fill(reordered, shuffledIndices(B, 'channels'));
     const parts = [0, 100, 250, 437].slice(0, -1).map((from, k, starts) => {
       const acc = new ChannelVarianceAccumulator(B, N);
       const to = k + 1 < starts.length ? starts[k + 1] : B;
-      fill(acc, shuffled(to - from, `part-${k}`).map((j) => from + j));
+      fill(acc, shuffledIndices(to - from, `part-${k}`).map((j) => from + j));
       return acc;
     });
     parts[2].merge(parts[0]);

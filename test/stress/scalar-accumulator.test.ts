@@ -1,19 +1,9 @@
-import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import { ScalarAccumulator } from '../../src/stress/scalar-accumulator.js';
+import { shuffledIndices } from '../helpers/draw-order.js';
 
 // Order independence and merging are design requirements (draw b's slot is b); the statistics
 // themselves are checked against numpy in test/reference/statistics.test.ts.
-function shuffled(count: number, seed: string): number[] {
-  const random = seedrandom(seed);
-  const order = Array.from({ length: count }, (_, k) => k);
-  for (let k = count - 1; k > 0; k--) {
-    const j = Math.floor(random() * (k + 1));
-    [order[k], order[j]] = [order[j], order[k]];
-  }
-  return order;
-}
-
 function valueOf(b: number): number {
   return b % 23 === 5 ? Number.NaN : Math.exp(Math.sin(b * 0.37)) * 0.01;
 }
@@ -24,7 +14,7 @@ describe('ScalarAccumulator', () => {
     const inOrder = new ScalarAccumulator(B);
     for (let b = 0; b < B; b++) inOrder.record(b, valueOf(b));
     const reordered = new ScalarAccumulator(B);
-    for (const b of shuffled(B, 'scalar')) reordered.record(b, valueOf(b));
+    for (const b of shuffledIndices(B, 'scalar')) reordered.record(b, valueOf(b));
     const first = new ScalarAccumulator(B);
     const second = new ScalarAccumulator(B);
     for (let b = 0; b < 250; b++) first.record(b, valueOf(b));

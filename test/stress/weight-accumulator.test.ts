@@ -1,6 +1,7 @@
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_SELECTION_THRESHOLD, storedValues, WeightAccumulator } from '../../src/stress/weight-accumulator.js';
+import { shuffledIndices } from '../helpers/draw-order.js';
 
 // Order independence and merging are design requirements; the band statistics are checked
 // against numpy/scipy in test/reference/statistics.test.ts.
@@ -20,16 +21,6 @@ function weightsOf(b: number, out: Float64Array): Float64Array {
   return out;
 }
 
-function shuffled(count: number, seed: string): number[] {
-  const random = seedrandom(seed);
-  const order = Array.from({ length: count }, (_, k) => k);
-  for (let k = count - 1; k > 0; k--) {
-    const j = Math.floor(random() * (k + 1));
-    [order[k], order[j]] = [order[j], order[k]];
-  }
-  return order;
-}
-
 describe('WeightAccumulator', () => {
   const proposal = [0.4, 0.5, 0.1];
 
@@ -39,7 +30,7 @@ describe('WeightAccumulator', () => {
     const inOrder = new WeightAccumulator(B, N);
     for (let b = 0; b < B; b++) inOrder.record(b, weightsOf(b, row));
     const reordered = new WeightAccumulator(B, N);
-    for (const b of shuffled(B, 'weights')) reordered.record(b, weightsOf(b, row));
+    for (const b of shuffledIndices(B, 'weights')) reordered.record(b, weightsOf(b, row));
     const low = new WeightAccumulator(B, N);
     const high = new WeightAccumulator(B, N);
     for (let b = 0; b < 137; b++) low.record(b, weightsOf(b, row));
