@@ -9,6 +9,21 @@ import { outputOrNew, workspaceOrNew, type EstimationWorkspace } from './workspa
  * result is δ·target + (1 − δ)·S with the estimated optimal intensity δ ∈ [0, 1].
  */
 
+/** What both estimators start from: the demeaned columns Z (m×N) and S = ZᵀZ/m, in `options.out` when given. */
+function divisorMSample(
+  history: ReturnHistory,
+  options: CovarianceOptions,
+): { n: number; m: number; s: Float64Array; columns: Float64Array; workspace: EstimationWorkspace } {
+  const n = history.series;
+  const m = selectedRowCount(history, options.rows);
+  requireRows(m, 2, 'a Ledoit–Wolf covariance');
+  const workspace = workspaceOrNew(options.workspace);
+  const s = outputOrNew(options.out, n * n, 'covariance');
+  const columns = demeanedColumns(history, options.rows, m, workspace.buffer('mean', n), workspace.buffer('columns', n * m));
+  columnCrossProducts(columns, n, m, 1 / m, s);
+  return { n, m, s, columns, workspace };
+}
+
 /**
  * Shrinkage to a scaled identity μI, μ = tr(S)/N (Ledoit & Wolf 2004, "A well-conditioned
  * estimator for large-dimensional covariance matrices", J. Multivariate Analysis 88(2)):
@@ -18,13 +33,7 @@ import { outputOrNew, workspaceOrNew, type EstimationWorkspace } from './workspa
  * The trace is preserved: tr(Σ̂) = tr(S).
  */
 export function ledoitWolfIdentity(history: ReturnHistory, options: CovarianceOptions = {}): CovarianceEstimate {
-  const n = history.series;
-  const m = selectedRowCount(history, options.rows);
-  requireRows(m, 2, 'a Ledoit–Wolf covariance');
-  const workspace = workspaceOrNew(options.workspace);
-  const s = outputOrNew(options.out, n * n, 'covariance');
-  const columns = demeanedColumns(history, options.rows, m, workspace.buffer('mean', n), workspace.buffer('columns', n * m));
-  columnCrossProducts(columns, n, m, 1 / m, s);
+  const { n, m, s, columns, workspace } = divisorMSample(history, options);
 
   let trace = 0;
   let frobeniusSq = 0;
@@ -56,13 +65,7 @@ export function ledoitWolfIdentity(history: ReturnHistory, options: CovarianceOp
  * cross terms, and its target row is zero (its sample row is zero up to rounding).
  */
 export function ledoitWolfConstantCorrelation(history: ReturnHistory, options: CovarianceOptions = {}): CovarianceEstimate {
-  const n = history.series;
-  const m = selectedRowCount(history, options.rows);
-  requireRows(m, 2, 'a Ledoit–Wolf covariance');
-  const workspace = workspaceOrNew(options.workspace);
-  const s = outputOrNew(options.out, n * n, 'covariance');
-  const columns = demeanedColumns(history, options.rows, m, workspace.buffer('mean', n), workspace.buffer('columns', n * m));
-  columnCrossProducts(columns, n, m, 1 / m, s);
+  const { n, m, s, columns, workspace } = divisorMSample(history, options);
 
   const sd = workspace.buffer('sd', n);
   let largestSd = 0;

@@ -1,5 +1,5 @@
-import { constraintsNotAppliedWarnings } from './constraint-check.js';
-import type { ConstraintSet, MethodResult } from './types.js';
+import { closedFormRuleResult, prepareClosedFormRule, type ClosedFormRuleOptions } from './closed-form-rule.js';
+import type { MethodResult } from './types.js';
 import { OptimizationError } from './types.js';
 
 /**
@@ -8,15 +8,7 @@ import { OptimizationError } from './types.js';
  * Review of Financial Studies 22(5)).
  */
 
-export interface EqualWeightOptions {
-  /** Total to invest; defaults to `constraints.budget`, else 1. */
-  readonly budget?: number;
-  /** The caller's constraints: not applied, only checked and reported in warnings. */
-  readonly constraints?: ConstraintSet;
-  readonly assetNames?: readonly string[];
-  /** Output buffer of length n (reused by the stress loop). */
-  readonly out?: Float64Array;
-}
+export type EqualWeightOptions = ClosedFormRuleOptions;
 
 /** w_i = budget/N, in place when `out` is given. */
 export function fillEqualWeights(out: Float64Array, budget = 1): Float64Array {
@@ -28,19 +20,6 @@ export function fillEqualWeights(out: Float64Array, budget = 1): Float64Array {
 
 export function equalWeight(n: number, options: EqualWeightOptions = {}): MethodResult {
   if (!Number.isInteger(n) || n < 1) throw new OptimizationError('invalid-input', `equal weight needs a positive asset count, got ${n}`);
-  if (options.constraints !== undefined && options.constraints.n !== n) {
-    throw new OptimizationError('invalid-input', `constraints are for ${options.constraints.n} assets, not ${n}`);
-  }
-  const budget = options.budget ?? options.constraints?.budget ?? 1;
-  if (!Number.isFinite(budget)) throw new OptimizationError('invalid-input', `budget must be finite, got ${budget}`);
-  const out = options.out ?? new Float64Array(n);
-  if (out.length !== n) throw new OptimizationError('invalid-input', `output buffer has length ${out.length}, not ${n}`);
-  const weights = fillEqualWeights(out, budget);
-  let sum = 0;
-  for (let i = 0; i < n; i++) sum += weights[i];
-  return {
-    weights,
-    diagnostics: { iterations: 0, converged: true, kktResidual: Math.abs(sum - budget), solver: 'closed-form' },
-    warnings: constraintsNotAppliedWarnings('equal-weight', weights, options.constraints, { budget }, { assetNames: options.assetNames }),
-  };
+  const { budget, out } = prepareClosedFormRule(n, options);
+  return closedFormRuleResult('equal-weight', fillEqualWeights(out, budget), budget, options);
 }

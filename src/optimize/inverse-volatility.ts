@@ -1,7 +1,7 @@
 import type { RiskModel } from '../linalg/risk-model.js';
 import { assetVariances } from '../linalg/risk-ops.js';
-import { constraintsNotAppliedWarnings } from './constraint-check.js';
-import type { ConstraintSet, MethodResult } from './types.js';
+import { closedFormRuleResult, prepareClosedFormRule, type ClosedFormRuleOptions } from './closed-form-rule.js';
+import type { MethodResult } from './types.js';
 import { OptimizationError } from './types.js';
 
 /**
@@ -10,15 +10,7 @@ import { OptimizationError } from './types.js';
  * Roncalli & Teïletche 2010, J. Portfolio Management 36(4)); otherwise it ignores correlations.
  */
 
-export interface InverseVolatilityOptions {
-  /** Total to invest; defaults to `constraints.budget`, else 1. */
-  readonly budget?: number;
-  /** The caller's constraints: not applied, only checked and reported in warnings. */
-  readonly constraints?: ConstraintSet;
-  readonly assetNames?: readonly string[];
-  /** Output buffer of length n (reused by the stress loop). */
-  readonly out?: Float64Array;
-}
+export type InverseVolatilityOptions = ClosedFormRuleOptions;
 
 /**
  * out ← budget · (1/σ) / Σ(1/σ_j) from asset variances (the diagonal of Σ), allocation-free.
@@ -44,21 +36,8 @@ export function fillInverseVolatilityWeights(variances: Float64Array, out: Float
 
 export function inverseVolatility(model: RiskModel, options: InverseVolatilityOptions = {}): MethodResult {
   const n = model.n;
-  if (options.constraints !== undefined && options.constraints.n !== n) {
-    throw new OptimizationError('invalid-input', `constraints are for ${options.constraints.n} assets, not ${n}`);
-  }
-  const budget = options.budget ?? options.constraints?.budget ?? 1;
-  if (!Number.isFinite(budget)) throw new OptimizationError('invalid-input', `budget must be finite, got ${budget}`);
-  const out = options.out ?? new Float64Array(n);
-  if (out.length !== n) throw new OptimizationError('invalid-input', `output buffer has length ${out.length}, not ${n}`);
+  const { budget, out } = prepareClosedFormRule(n, options);
   // Variances go into the output buffer first, then are overwritten by the weights in place.
   assetVariances(model, out);
-  const weights = fillInverseVolatilityWeights(out, out, budget);
-  let sum = 0;
-  for (let i = 0; i < n; i++) sum += weights[i];
-  return {
-    weights,
-    diagnostics: { iterations: 0, converged: true, kktResidual: Math.abs(sum - budget), solver: 'closed-form' },
-    warnings: constraintsNotAppliedWarnings('inverse-volatility', weights, options.constraints, { budget }, { assetNames: options.assetNames }),
-  };
+  return closedFormRuleResult('inverse-volatility', fillInverseVolatilityWeights(out, out, budget), budget, options);
 }

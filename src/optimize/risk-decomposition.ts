@@ -38,12 +38,7 @@ export function portfolioVolatility(model: RiskModel, w: Float64Array, scratchN:
  */
 export function riskContributionsInto(model: RiskModel, w: Float64Array, out: Float64Array, scratchK?: Float64Array): number {
   const n = model.n;
-  covTimes(model, w, out, scratchK);
-  let variance = 0;
-  for (let i = 0; i < n; i++) {
-    out[i] *= w[i];
-    variance += out[i];
-  }
+  const variance = varianceContributionsInto(model, w, out, scratchK);
   const sigma = Math.sqrt(Math.max(0, variance));
   const scale = sigma > 0 ? 1 / sigma : 0;
   for (let i = 0; i < n; i++) out[i] *= scale;
@@ -56,15 +51,21 @@ export function riskContributionsInto(model: RiskModel, w: Float64Array, out: Fl
  */
 export function riskContributionSharesInto(model: RiskModel, w: Float64Array, out: Float64Array, scratchK?: Float64Array): number {
   const n = model.n;
-  covTimes(model, w, out, scratchK);
-  let variance = 0;
-  for (let i = 0; i < n; i++) {
-    out[i] *= w[i];
-    variance += out[i];
-  }
+  const variance = varianceContributionsInto(model, w, out, scratchK);
   const scale = variance > 0 ? 1 / variance : NaN;
   for (let i = 0; i < n; i++) out[i] *= scale;
   return Math.sqrt(Math.max(0, variance));
+}
+
+/** out ← w ∘ (Σw), the variance contributions (they sum to wᵀΣw); returns wᵀΣw (unclamped). */
+function varianceContributionsInto(model: RiskModel, w: Float64Array, out: Float64Array, scratchK?: Float64Array): number {
+  covTimes(model, w, out, scratchK);
+  let variance = 0;
+  for (let i = 0; i < model.n; i++) {
+    out[i] *= w[i];
+    variance += out[i];
+  }
+  return variance;
 }
 
 /** σ_i = √Σ_ii into `out` (O(NK²) for a factor model: compute once per model, not per portfolio). */

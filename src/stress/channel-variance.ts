@@ -1,5 +1,5 @@
 import { batchCount, batchOfDraw, stdErrOfBatchStatistics, UNIT_INTERVAL_MAX_SD } from './batch-means.js';
-import { checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_RECORDED, DRAW_SUCCEEDED, mergeDrawStatus } from './scalar-accumulator.js';
+import { checkAssetCount, checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_RECORDED, DRAW_SUCCEEDED, mergeDrawStatus } from './scalar-accumulator.js';
 
 /**
  * Mean-driven share of weight variability (design: "channels"). The mean-only channel resamples
@@ -81,7 +81,7 @@ export class ChannelVarianceAccumulator {
 
   constructor(draws: number, assets: number) {
     checkDrawCount(draws);
-    if (!Number.isInteger(assets) || assets < 1) throw new RangeError(`asset count must be a positive integer, got ${assets}`);
+    checkAssetCount(assets);
     this.draws = draws;
     this.assets = assets;
     this.batches = Math.max(1, batchCount(draws));

@@ -30,6 +30,11 @@ export function checkDrawCount(draws: number): void {
   }
 }
 
+/** Throws unless the asset count (width of a per-draw weight row) is a positive integer. */
+export function checkAssetCount(assets: number): void {
+  if (!Number.isInteger(assets) || assets < 1) throw new RangeError(`asset count must be a positive integer, got ${assets}`);
+}
+
 /** Copies source's recorded slots into target's status; throws if a slot is recorded in both. */
 export function mergeDrawStatus(target: Uint8Array, source: Uint8Array): void {
   if (target.length !== source.length) throw new RangeError('cannot merge accumulators of different sizes');

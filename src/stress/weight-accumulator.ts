@@ -9,6 +9,7 @@ import {
 } from './batch-means.js';
 import { midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
 import {
+  checkAssetCount,
   checkDrawCount,
   checkDrawIndex,
   countDraws,
@@ -89,7 +90,7 @@ export class WeightAccumulator {
 
   constructor(draws: number, assets: number) {
     checkDrawCount(draws);
-    if (!Number.isInteger(assets) || assets < 1) throw new RangeError(`asset count must be a positive integer, got ${assets}`);
+    checkAssetCount(assets);
     this.draws = draws;
     this.assets = assets;
     this.weights = new Float64Array(storedValues(draws, assets)).fill(Number.NaN);
