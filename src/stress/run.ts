@@ -5,8 +5,8 @@ import { CAUTIONS } from '../schema/cautions.js';
 import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
-import { createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
-import { prepareProblem } from './problem.js';
+import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
+import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
 import { judge } from './verdict.js';
 
@@ -30,8 +30,10 @@ export const MAX_FAILED_SHARE = 0.5;
 
 export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0): Promise<OptimizeResponse> {
   const started = clock();
+  const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
+  checkLimits(proposal, 1, scheme, methodList(proposal));
   const problem = prepareProblem(proposal, warnings);
-  const scenarioKelly = problem.history !== undefined && proposal.resampling?.scheme !== 'parametric';
+  const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(problem, scenarioKelly);
   return {
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },

@@ -4,6 +4,7 @@ import { validateProposal } from '../../src/schema/validate.js';
 import { optimizeProposal, stressProposal } from '../../src/stress/run.js';
 import type { ProposalInput } from '../../src/schema/proposal.js';
 import { historyProposal, momentsProposal } from '../helpers/proposals.js';
+import { parkMiller } from '../helpers/reference-data.js';
 
 function valid(p: ProposalInput) {
   const v = validateProposal(p);
@@ -89,5 +90,21 @@ describe('stressProposal', () => {
   it('refuses work over the limits, naming the limit', async () => {
     const v = valid(historyProposal());
     await expect(stressProposal(v.proposal, v.warnings, { draws: 10_000 })).rejects.toThrow(/maxDraws/);
+  });
+
+  it('refuses an oversized request by its counted work before estimating anything', async () => {
+    // 400 assets × 500 rows with scenario Kelly in every channel: far over the work budget. The refusal
+    // comes from counting, so it must not depend on running (or timing) the estimation first.
+    const n = 400;
+    const u = parkMiller(99);
+    const returns = Array.from({ length: 500 }, () => Array.from({ length: n }, () => 0.02 * (u() - 0.5)));
+    const p = valid({
+      assets: Array.from({ length: n }, (_, i) => `a${i}`),
+      weights: Array.from({ length: n }, () => 1 / n),
+      inputs: { returns, periodsPerYear: 12 },
+      method: { name: 'kelly' },
+      estimation: { factorModel: 'pca', pcaFactors: 5 },
+    });
+    await expect(stressProposal(p.proposal, p.warnings)).rejects.toThrow(/maxWorkUnits/);
   });
 });
