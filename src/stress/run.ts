@@ -47,6 +47,12 @@ export async function optimizeProposal(proposal: Proposal, warnings: Warning[], 
 function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions): StressAccumulators {
   const acc = createAccumulators(plan);
   const size = options.rangeSize && options.rangeSize > 0 ? options.rangeSize : plan.draws;
+  const progress = options.onProgress;
+  if (size >= plan.draws) {
+    // One range: fill the accumulators directly (no second copy to merge).
+    runDraws(plan, 0, plan.draws, acc, progress ? (done) => progress(done, plan.draws) : undefined);
+    return acc;
+  }
   for (let start = 0; start < plan.draws; start += size) {
     const end = Math.min(plan.draws, start + size);
     const part = createAccumulators(plan);
