@@ -1,10 +1,14 @@
 import type { RiskModel } from '../linalg/risk-model.js';
 import { kktResidual } from './kkt.js';
+import { KellyWorkspace, NewtonState, WEALTH_MARGIN } from './kelly-state.js';
 import { meanVariance } from './mean-variance.js';
 import { isQpWarmStart, QpWorkspace, solveQp } from './qp.js';
 import type { QpMethodOptions, QpMethodResult } from './qp-method.js';
 import type { QpProblem, QpSolution, QpWarmStart } from './qp-types.js';
 import { OptimizationError, type ConstraintSet, type MethodResult } from './types.js';
+
+export { crraUtility, expectedUtility } from './kelly-utility.js';
+export { KellyWorkspace } from './kelly-state.js';
 
 /**
  * Kelly (1956) growth-optimal portfolio over scenarios, with fractional Kelly as constant
@@ -23,15 +27,23 @@ import { OptimizationError, type ConstraintSet, type MethodResult } from './type
  * warm-started from the previous step's working set), followed by a backtracking (Armijo) line
  * search that starts at the fraction-to-the-boundary step 0.99·max{α: W_s(w + αd) > 0 ∀s}, so
  * wealth stays positive in every scenario. Converges when the KKT residual of the problem at w
- * (via the QP's multipliers) is below `tolerance`.
+ * (with the multipliers of a step QP at w) is below `tolerance`.
+ *
+ * Cost: the Hessian, O(S·N²) (kelly-cross-products.ts), dominates; the gradient, wealth and line
+ * search are O(S·N) (wealth and step returns skip zero weights). After a full Newton step the
+ * convergence test at the new point reuses the previous Hessian (see the loop), so a solve that
+ * converges in one step builds one Hessian, not two. Reuse a KellyWorkspace (or the QpWorkspace
+ * it is attached to) across solves to avoid allocating the S×N and N×N buffers.
  */
 export interface KellyOptions extends QpMethodOptions {
   /** f ∈ (0, 1]; γ = 1/f. Default 1 (log utility). */
   readonly fraction?: number;
-  /** Scenario probabilities p_s (≥ 0, normalised here). Default equal. */
+  /** Scenario probabilities p_s (≥ 0, normalised here). Default equal. Also the way to pass distinct rows with counts. */
   readonly scenarioWeights?: Float64Array;
   /** Newton iterations (default 50). */
   readonly maxNewtonIterations?: number;
+  /** Reusable Kelly buffers (one per method per loop in the stress engine); a fresh one per solve when absent. */
+  readonly kellyWorkspace?: KellyWorkspace;
 }
 
 export interface KellyResult extends MethodResult {
@@ -53,37 +65,6 @@ const DEFAULT_KELLY_TOLERANCE = 1e-12;
 /** Fraction of the distance to zero wealth that a step may cover (interior-point practice). */
 const FRACTION_TO_BOUNDARY = 0.99;
 const ARMIJO = 1e-4;
-/** Wealth every scenario must keep (a small margin above 0, so rounding cannot fake a solvent start). */
-const WEALTH_MARGIN = 1e-9;
-
-/** Σ p_s u(1 + r_sᵀw) for CRRA γ (γ = 1: log). −Infinity when some wealth is ≤ 0. */
-export function expectedUtility(
-  scenarios: Float64Array,
-  scenarioCount: number,
-  w: Float64Array,
-  gamma: number,
-  scenarioWeights?: Float64Array,
-): number {
-  const n = w.length;
-  let total = 0;
-  for (let s = 0; s < scenarioCount; s++) {
-    let wealth = 1;
-    const row = s * n;
-    for (let i = 0; i < n; i++) wealth += scenarios[row + i] * w[i];
-    if (!(wealth > 0)) return -Infinity;
-    const p = scenarioWeights ? scenarioWeights[s] : 1 / scenarioCount;
-    total += p * crraUtility(wealth, gamma);
-  }
-  return total;
-}
-
-/** u(W) = log W for γ = 1, (W^{1−γ} − 1)/(1 − γ) otherwise (continuous in γ at 1). */
-export function crraUtility(wealth: number, gamma: number): number {
-  if (gamma === 1) return Math.log(wealth);
-  // expm1 keeps (W^{1−γ} − 1)/(1 − γ) accurate when γ is close to 1.
-  const a = 1 - gamma;
-  return Math.expm1(a * Math.log(wealth)) / a;
-}
 
 /** Growth-optimal (or fractional Kelly) weights over scenario returns; see the module comment. */
 export function kelly(
@@ -99,23 +80,25 @@ export function kelly(
   if (!(scenarioCount >= 1) || scenarios.length !== scenarioCount * n) {
     throw new OptimizationError('invalid-input', `scenario matrix must be ${scenarioCount}×${n}`);
   }
-  for (let k = 0; k < scenarios.length; k++) {
-    if (!Number.isFinite(scenarios[k])) throw new OptimizationError('invalid-input', 'scenario returns must be finite');
-  }
-  const p = normalisedWeights(options.scenarioWeights, scenarioCount);
+  const kellyWorkspace = options.kellyWorkspace ?? kellyWorkspaceFor(options.workspace);
+  kellyWorkspace.ensure(n, scenarioCount);
+  const state = new NewtonState(scenarios, scenarioCount, n, gamma, kellyWorkspace);
+  state.loadScenarios();
+  state.loadProbabilities(options.scenarioWeights);
   const tolerance = options.tolerance ?? DEFAULT_KELLY_TOLERANCE;
   const maxNewton = options.maxNewtonIterations ?? 50;
   const workspace = options.workspace ?? new QpWorkspace(n, constraints.groups.length);
 
-  const state = new NewtonState(scenarios, scenarioCount, n, p, gamma);
   let qpWarm: QpWarmStart | undefined;
   let w: Float64Array;
   const warm = options.warmStart as Partial<KellyWarmStart> | undefined;
-  if (warm && warm.kind === 'kelly' && warm.weights instanceof Float64Array && warm.weights.length === n && state.minWealth(warm.weights) > WEALTH_MARGIN && isFeasibleFor(constraints, warm.weights)) {
+  if (warm && warm.kind === 'kelly' && warm.weights instanceof Float64Array && warm.weights.length === n && state.computeWealth(warm.weights) > WEALTH_MARGIN && isFeasibleFor(constraints, warm.weights)) {
     w = Float64Array.from(warm.weights);
     qpWarm = isQpWarmStart(warm.qp) ? warm.qp : undefined;
+    state.evaluateAtWealth();
   } else {
     w = startingPoint(state, constraints, gamma, workspace);
+    state.evaluateFirstOrder(w);
   }
 
   let iterations = 0;
@@ -123,10 +106,12 @@ export function kelly(
   let converged = false;
   let residual = Infinity;
   let last: QpSolution | undefined;
-  const d = new Float64Array(n);
-  const trial = new Float64Array(n);
-  for (; iterations < maxNewton; iterations++) {
-    state.evaluate(w);
+  const d = kellyWorkspace.direction;
+  const trial = kellyWorkspace.trial;
+  let hessianAtW = false;
+  while (iterations < maxNewton) {
+    if (!hessianAtW) state.addHessian();
+    hessianAtW = true;
     const problem = state.newtonProblem(w, constraints);
     last = solveQp(problem, { warmStart: qpWarm, workspace, maxIterations: options.maxIterations });
     qpIterations += last.iterations + last.phase1Iterations;
@@ -149,17 +134,35 @@ export function kelly(
     // Once the predicted gain is at the rounding level of φ, Armijo cannot tell gains from
     // rounding: take the (quadratically convergent) Newton step as it is.
     let accepted = slope <= roundingLevel;
-    if (accepted) for (let i = 0; i < n; i++) trial[i] = w[i] + alpha * d[i];
     for (let k = 0; k < 60 && !accepted; k++) {
-      for (let i = 0; i < n; i++) trial[i] = w[i] + alpha * d[i];
-      const f = expectedUtility(scenarios, scenarioCount, trial, gamma, p);
-      if (f >= f0 + ARMIJO * alpha * slope) accepted = true;
+      if (state.lineUtility(alpha) >= f0 + ARMIJO * alpha * slope) accepted = true;
       else alpha *= 0.5;
     }
     if (!accepted) break;
+    for (let i = 0; i < n; i++) trial[i] = w[i] + alpha * d[i];
     w.set(trial);
+    iterations++;
+    state.evaluateFirstOrder(w);
+    hessianAtW = false;
+    // Convergence test before paying for the Hessian at w: after a full step, the step QP at w
+    // with the previous iterate's Hessian (warm-started from the working set just found, so
+    // usually one factorisation of the reduced Hessian and no step) gives multipliers for the
+    // gradient at w. At a point where the QP does not move, those multipliers depend only on
+    // ∇φ(w) and the working set — not on H — so the KKT residual below is the one the Newton QP
+    // with the exact Hessian would report. If it fails, the next iteration builds H at w.
+    if (alpha === 1) {
+      const check = convergenceCheck(state.newtonProblem(w, constraints), w, qpWarm, workspace, options.maxIterations);
+      if (check) {
+        qpIterations += check.solution.iterations + check.solution.phase1Iterations;
+        residual = check.residual;
+        if (residual <= tolerance) {
+          last = check.solution;
+          converged = true;
+          break;
+        }
+      }
+    }
   }
-  state.evaluate(w);
   const warnings: { code: string; message: string }[] = [];
   if (!converged) {
     warnings.push({
@@ -173,9 +176,47 @@ export function kelly(
     warmStart: { kind: 'kelly', weights: Float64Array.from(w), qp: last?.warmStart ?? qpWarm } satisfies Partial<KellyWarmStart>,
     warnings,
     expectedUtility: state.value,
-    growthRate: expectedUtility(scenarios, scenarioCount, w, 1, p),
+    growthRate: state.growthRate(),
     newtonIterations: iterations,
   };
+}
+
+/**
+ * The step QP at w with the Hessian at hand and the KKT residual at w with its multipliers, or
+ * undefined when that QP fails (the full iteration that follows then solves it with the exact
+ * Hessian and reports any error).
+ */
+function convergenceCheck(
+  problem: QpProblem,
+  w: Float64Array,
+  warmStart: QpWarmStart | undefined,
+  workspace: QpWorkspace,
+  maxIterations: number | undefined,
+): { solution: QpSolution; residual: number } | undefined {
+  try {
+    const solution = solveQp(problem, { warmStart, workspace, maxIterations });
+    return { solution, residual: kktResidual(problem, w, solution.multipliers) };
+  } catch (error) {
+    if (error instanceof OptimizationError) return undefined;
+    throw error;
+  }
+}
+
+/**
+ * Callers that pass a QpWorkspace but no KellyWorkspace (the stress engine binds one QpWorkspace
+ * per method) get Kelly buffers attached to that QpWorkspace, so repeated solves stop allocating
+ * either way; the two have the same lifetime and the same rule (one solve at a time).
+ */
+const attachedWorkspaces = new WeakMap<QpWorkspace, KellyWorkspace>();
+
+function kellyWorkspaceFor(qpWorkspace: QpWorkspace | undefined): KellyWorkspace {
+  if (!qpWorkspace) return new KellyWorkspace();
+  let ws = attachedWorkspaces.get(qpWorkspace);
+  if (!ws) {
+    ws = new KellyWorkspace();
+    attachedWorkspaces.set(qpWorkspace, ws);
+  }
+  return ws;
 }
 
 /**
@@ -194,110 +235,6 @@ export function kellyMomentsFallback(
   return meanVariance(model, mean, constraints, 1 / fraction, options);
 }
 
-/** Per-iterate quantities of the Newton method; buffers allocated once per solve. */
-class NewtonState {
-  readonly gradient: Float64Array;
-  readonly hessian: Float64Array;
-  readonly linear: Float64Array;
-  readonly wealth: Float64Array;
-  value = 0;
-
-  constructor(
-    private readonly scenarios: Float64Array,
-    private readonly count: number,
-    private readonly n: number,
-    private readonly p: Float64Array,
-    private readonly gamma: number,
-  ) {
-    this.gradient = new Float64Array(n);
-    this.hessian = new Float64Array(n * n);
-    this.linear = new Float64Array(n);
-    this.wealth = new Float64Array(count);
-  }
-
-  minWealth(w: Float64Array): number {
-    let m = Infinity;
-    for (let s = 0; s < this.count; s++) m = Math.min(m, this.wealthAt(s, w));
-    return m;
-  }
-
-  private wealthAt(s: number, w: Float64Array): number {
-    let v = 1;
-    const row = s * this.n;
-    for (let i = 0; i < this.n; i++) v += this.scenarios[row + i] * w[i];
-    return v;
-  }
-
-  /** φ(w), ∇φ(w) and H = −∇²φ(w) = γ Σ p_s W_s^{−γ−1} r_s r_sᵀ. */
-  evaluate(w: Float64Array): void {
-    const { n, count, scenarios, gamma, p } = this;
-    const g = this.gradient;
-    const h = this.hessian;
-    g.fill(0);
-    h.fill(0);
-    let value = 0;
-    for (let s = 0; s < count; s++) {
-      const wealth = this.wealthAt(s, w);
-      this.wealth[s] = wealth;
-      if (p[s] === 0) continue;
-      value += p[s] * crraUtility(wealth, gamma);
-      const a = p[s] * Math.pow(wealth, -gamma);
-      const b = (gamma * a) / wealth;
-      const row = s * n;
-      for (let i = 0; i < n; i++) {
-        const ri = scenarios[row + i];
-        if (ri === 0) continue;
-        g[i] += a * ri;
-        const bri = b * ri;
-        const hRow = i * n;
-        for (let j = 0; j <= i; j++) h[hRow + j] += bri * scenarios[row + j];
-      }
-    }
-    for (let i = 0; i < n; i++) for (let j = 0; j < i; j++) h[j * n + i] = h[i * n + j];
-    this.value = value;
-  }
-
-  /** The Newton QP in the variable v = w + d: minimise ½vᵀHv − (∇φ + Hw)ᵀv. */
-  newtonProblem(w: Float64Array, constraints: ConstraintSet): QpProblem {
-    const { n } = this;
-    for (let i = 0; i < n; i++) {
-      let s = 0;
-      for (let j = 0; j < n; j++) s += this.hessian[i * n + j] * w[j];
-      this.linear[i] = this.gradient[i] + s;
-    }
-    return { hessian: { kind: 'dense', n, matrix: this.hessian }, linear: this.linear, constraints };
-  }
-
-  /** sup{α ≥ 0 : W_s + α·r_sᵀd > margin ∀s} (Infinity when no wealth falls along d). */
-  maxStep(d: Float64Array): number {
-    let alpha = Infinity;
-    for (let s = 0; s < this.count; s++) {
-      if (this.p[s] === 0) continue;
-      let rd = 0;
-      const row = s * this.n;
-      for (let i = 0; i < this.n; i++) rd += this.scenarios[row + i] * d[i];
-      if (rd < 0) alpha = Math.min(alpha, (this.wealth[s] - WEALTH_MARGIN) / -rd);
-    }
-    return alpha;
-  }
-
-  /** Scenario-weighted mean and covariance of the returns (for the starting point). */
-  moments(): { mean: Float64Array; cov: Float64Array } {
-    const { n, count, scenarios, p } = this;
-    const mean = new Float64Array(n);
-    for (let s = 0; s < count; s++) for (let i = 0; i < n; i++) mean[i] += p[s] * scenarios[s * n + i];
-    const cov = new Float64Array(n * n);
-    for (let s = 0; s < count; s++) {
-      for (let i = 0; i < n; i++) {
-        const di = scenarios[s * n + i] - mean[i];
-        for (let j = 0; j <= i; j++) cov[i * n + j] += p[s] * di * (scenarios[s * n + j] - mean[j]);
-      }
-    }
-    for (let i = 0; i < n; i++) for (let j = 0; j < i; j++) cov[j * n + i] = cov[i * n + j];
-    return { mean, cov };
-  }
-}
-
 /**
  * A feasible start with positive wealth in every scenario: the quadratic approximation
  * (mean-variance with λ = γ on the scenario moments) when it keeps wealth positive — it is
@@ -310,7 +247,7 @@ function startingPoint(state: NewtonState, constraints: ConstraintSet, gamma: nu
   const tryProblem = (problem: QpProblem): Float64Array | undefined => {
     try {
       const x = solveQp(problem, { workspace }).x;
-      return state.minWealth(x) > WEALTH_MARGIN ? x : undefined;
+      return state.computeWealth(x) > WEALTH_MARGIN ? x : undefined;
     } catch (error) {
       if (error instanceof OptimizationError && error.code === 'unbounded') return undefined;
       throw error;
@@ -326,21 +263,6 @@ function startingPoint(state: NewtonState, constraints: ConstraintSet, gamma: nu
     'infeasible',
     'no allowed allocation was found that keeps wealth positive in every scenario (log utility needs 1 + rᵀw > 0)',
   );
-}
-
-function normalisedWeights(weights: Float64Array | undefined, count: number): Float64Array {
-  const p = new Float64Array(count);
-  if (!weights) return p.fill(1 / count);
-  if (weights.length !== count) throw new OptimizationError('invalid-input', `expected ${count} scenario weights, got ${weights.length}`);
-  let total = 0;
-  for (let s = 0; s < count; s++) {
-    const v = weights[s];
-    if (!(v >= 0) || !Number.isFinite(v)) throw new OptimizationError('invalid-input', `scenario weight ${s} must be ≥ 0, got ${v}`);
-    total += v;
-  }
-  if (!(total > 0)) throw new OptimizationError('invalid-input', 'scenario weights must not all be zero');
-  for (let s = 0; s < count; s++) p[s] = weights[s] / total;
-  return p;
 }
 
 function isFeasibleFor(constraints: ConstraintSet, w: Float64Array): boolean {

@@ -1,6 +1,6 @@
 import { equalWeight } from '../optimize/equal-weight.js';
 import { inverseVolatility } from '../optimize/inverse-volatility.js';
-import { kelly } from '../optimize/kelly.js';
+import { kelly, KellyWorkspace } from '../optimize/kelly.js';
 import { meanVariance } from '../optimize/mean-variance.js';
 import { minimumVariance } from '../optimize/minimum-variance.js';
 import { QpWorkspace } from '../optimize/qp.js';
@@ -49,12 +49,13 @@ export function createMethodSolver(spec: MethodSpec, problem: PreparedProblem, c
           solve: (x, warmStart) => meanVariance(x.riskModel, x.mean, constraints, 1 / fraction, { warmStart, workspace }),
         };
       }
+      const kellyWorkspace = new KellyWorkspace();
       return {
         usesMean: true,
         usesScenarios: true,
         solve: (x, warmStart) => {
           if (!x.scenarios || !x.scenarioCount) throw new Error('scenario Kelly needs scenario rows');
-          return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace });
+          return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace, kellyWorkspace });
         },
       };
     }

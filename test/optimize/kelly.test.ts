@@ -1,5 +1,11 @@
+import { Matrix } from 'ml-matrix';
+import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
-import { crraUtility, expectedUtility, kelly } from '../../src/optimize/kelly.js';
+import { crraUtility, expectedUtility, kelly, KellyWorkspace } from '../../src/optimize/kelly.js';
+import { weightedCrossProducts } from '../../src/optimize/kelly-cross-products.js';
+import { estimateMultipliers, kktResidual } from '../../src/optimize/kkt.js';
+import { QpWorkspace } from '../../src/optimize/qp.js';
+import type { QpProblem } from '../../src/optimize/qp-types.js';
 import { OptimizationError, type ConstraintSet } from '../../src/optimize/types.js';
 
 // Invented scenario returns (per period) for behaviour checks; published values are in
@@ -63,5 +69,155 @@ describe('kelly', () => {
     // One asset that loses everything in one scenario and must be held entirely (budget, one asset).
     const single: ConstraintSet = { n: 1, lower: new Float64Array(1), upper: new Float64Array(1).fill(Infinity), budget: 1, groups: [] };
     expect(() => kelly(Float64Array.from([0.5, -1]), 2, single)).toThrow(/wealth positive/);
+  });
+});
+
+/** Invented S×N returns: a common factor plus noise, monthly-sized (for behaviour checks only). */
+function randomScenarios(count: number, n: number, seed: string): Float64Array {
+  const random = seedrandom(seed);
+  const out = new Float64Array(count * n);
+  for (let s = 0; s < count; s++) {
+    const common = 0.04 * (random() - 0.5);
+    for (let i = 0; i < n; i++) out[s * n + i] = 0.004 + 0.01 * (i % 3) * 0.1 + common + 0.08 * (random() - 0.5);
+  }
+  return out;
+}
+
+/** Long-only, each asset ≤ 25 %, the first three assets together ≤ 40 % (bounds and a group bind). */
+function boundedSet(n: number): ConstraintSet {
+  return {
+    n,
+    lower: new Float64Array(n),
+    upper: new Float64Array(n).fill(0.25),
+    budget: 1,
+    groups: [{ name: 'first-three', members: Int32Array.from([0, 1, 2]), min: -Infinity, max: 0.4 }],
+  };
+}
+
+/**
+ * KKT residual of the Kelly problem at w, independent of the solver's multipliers: the gradient
+ * ∇φ = Σ p_s W_s^{−γ} r_s computed here, multipliers fitted by kkt.ts's estimateMultipliers
+ * (Lawson–Hanson NNLS) for the first-order conditions −∇φ = ν1 + Σν_g 1_g + z (Nocedal & Wright,
+ * Theorem 12.1), as a QP with H = 0 and c = ∇φ.
+ */
+function independentKktResidual(scenarios: Float64Array, count: number, constraints: ConstraintSet, w: Float64Array, gamma: number): number {
+  const n = constraints.n;
+  const g = new Float64Array(n);
+  for (let s = 0; s < count; s++) {
+    let wealth = 1;
+    for (let i = 0; i < n; i++) wealth += scenarios[s * n + i] * w[i];
+    for (let i = 0; i < n; i++) g[i] += (scenarios[s * n + i] * Math.pow(wealth, -gamma)) / count;
+  }
+  const problem: QpProblem = { hessian: { kind: 'dense', n, matrix: new Float64Array(n * n) }, linear: g, constraints };
+  return kktResidual(problem, w, estimateMultipliers(problem, w));
+}
+
+describe('kelly: Hessian kernel', () => {
+  it('Σ_s b_s r_s r_sᵀ from column-major inputs equals Rᵀ·diag(b)·R by ml-matrix, for odd and even sizes', () => {
+    // Reference: the matrix product in ml-matrix (general-purpose linear algebra library).
+    for (const n of [1, 2, 3, 4, 5, 7, 8, 9]) {
+      const m = 13;
+      const random = seedrandom(`kernel-${n}`);
+      const rows = Matrix.zeros(m, n);
+      const b = Array.from({ length: m }, () => random());
+      for (let s = 0; s < m; s++) for (let i = 0; i < n; i++) rows.set(s, i, random() - 0.5);
+      const columns = new Float64Array(n * m);
+      const weighted = new Float64Array(n * m);
+      for (let i = 0; i < n; i++) {
+        for (let s = 0; s < m; s++) {
+          columns[i * m + s] = rows.get(s, i);
+          weighted[i * m + s] = b[s] * rows.get(s, i);
+        }
+      }
+      const out = new Float64Array(n * n).fill(Number.NaN);
+      weightedCrossProducts(weighted, columns, n, m, out);
+      const expected = rows.transpose().mmul(Matrix.diag(b).mmul(rows));
+      for (let i = 0; i < n; i++) {
+        for (let j = 0; j < n; j++) {
+          expect(Math.abs(out[i * n + j] - expected.get(i, j))).toBeLessThan(1e-14);
+          expect(out[i * n + j]).toBe(out[j * n + i]);
+        }
+      }
+    }
+  });
+});
+
+describe('kelly: workspaces, warm starts and the convergence test', () => {
+  const n = 8;
+  const count = 60;
+  const base = randomScenarios(count, n, 'base');
+  const constraints = boundedSet(n);
+
+  it('the reported KKT residual agrees with an independent multiplier fit, cold and warm-started, log and half Kelly', () => {
+    for (const fraction of [1, 0.5]) {
+      const gamma = 1 / fraction;
+      const cold = kelly(base, count, constraints, { fraction });
+      expect(cold.diagnostics.converged).toBe(true);
+      expect(independentKktResidual(base, count, constraints, cold.weights, gamma)).toBeLessThan(1e-9);
+      // Perturbed scenarios from the base optimum, as the stress engine does per draw.
+      for (const seed of ['a', 'b', 'c', 'd']) {
+        const moved = randomScenarios(count, n, seed);
+        for (let k = 0; k < moved.length; k++) moved[k] = 0.7 * base[k] + 0.3 * moved[k];
+        const warm = kelly(moved, count, constraints, { fraction, warmStart: cold.warmStart });
+        expect(warm.diagnostics.converged).toBe(true);
+        expect(warm.newtonIterations).toBeGreaterThanOrEqual(1);
+        expect(warm.diagnostics.kktResidual).toBeLessThan(1e-11);
+        expect(independentKktResidual(moved, count, constraints, warm.weights, gamma)).toBeLessThan(1e-9);
+        // The same optimum from a cold start (strictly concave objective: one maximiser).
+        const again = kelly(moved, count, constraints, { fraction });
+        for (let i = 0; i < n; i++) expect(Math.abs(warm.weights[i] - again.weights[i])).toBeLessThan(1e-10);
+        expect(warm.growthRate).toBeCloseTo(expectedUtility(moved, count, warm.weights, 1), 14);
+        expect(warm.expectedUtility).toBeCloseTo(expectedUtility(moved, count, warm.weights, gamma), 14);
+      }
+    }
+  });
+
+  it('a reused KellyWorkspace (or one attached to a reused QpWorkspace) gives bit-identical results across shapes', () => {
+    const kellyWorkspace = new KellyWorkspace();
+    const qpWorkspace = new QpWorkspace();
+    const cases: [Float64Array, number, ConstraintSet][] = [
+      [base, count, constraints],
+      [scenarios, S, cs],
+      [randomScenarios(25, n, 'short'), 25, constraints],
+      [base, count, constraints],
+    ];
+    for (const [rows, rowCount, set] of cases) {
+      const fresh = kelly(rows, rowCount, set);
+      const reused = kelly(rows, rowCount, set, { kellyWorkspace });
+      const attached = kelly(rows, rowCount, set, { workspace: qpWorkspace });
+      for (const other of [reused, attached]) {
+        expect(Array.from(other.weights)).toEqual(Array.from(fresh.weights));
+        expect(other.expectedUtility).toBe(fresh.expectedUtility);
+        expect(other.newtonIterations).toBe(fresh.newtonIterations);
+      }
+    }
+  });
+
+  it('scenario weights as counts of distinct rows give the optimum of the replicated rows', () => {
+    // Rows 0..9 of `base`, row s repeated 1 + (s mod 3) times, against weights 1 + (s mod 3).
+    const distinct = 10;
+    const counts = Float64Array.from({ length: distinct }, (_, s) => 1 + (s % 3));
+    const replicated: number[] = [];
+    for (let s = 0; s < distinct; s++) for (let c = 0; c < counts[s]; c++) replicated.push(...base.subarray(s * n, (s + 1) * n));
+    const byCounts = kelly(base.subarray(0, distinct * n), distinct, constraints, { scenarioWeights: counts });
+    const byRows = kelly(Float64Array.from(replicated), replicated.length / n, constraints);
+    for (let i = 0; i < n; i++) expect(Math.abs(byCounts.weights[i] - byRows.weights[i])).toBeLessThan(1e-10);
+    expect(Math.abs(byCounts.growthRate - byRows.growthRate)).toBeLessThan(1e-14);
+  });
+
+  it('ignores a warm start with non-finite weights and solves from a cold start', () => {
+    const cold = kelly(scenarios, S, cs);
+    const broken = { kind: 'kelly', weights: Float64Array.from([Number.NaN, 0.5, 0.5]), qp: undefined };
+    const result = kelly(scenarios, S, cs, { warmStart: broken });
+    expect(result.diagnostics.converged).toBe(true);
+    for (let i = 0; i < 3; i++) expect(Math.abs(result.weights[i] - cold.weights[i])).toBeLessThan(1e-12);
+  });
+
+  it('rejects non-finite scenario returns', () => {
+    for (const bad of [Number.NaN, Infinity, -Infinity]) {
+      const rows = Float64Array.from(scenarios);
+      rows[7] = bad;
+      expect(() => kelly(rows, S, cs)).toThrow(/finite/);
+    }
   });
 });
