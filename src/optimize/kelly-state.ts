@@ -1,5 +1,5 @@
 import { crraUtility } from './kelly-utility.js';
-import { weightedCrossProducts } from './kelly-cross-products.js';
+import { symmetricCrossProducts } from '../linalg/cross-products.js';
 import type { QpProblem } from './qp-types.js';
 import { OptimizationError, type ConstraintSet } from './types.js';
 
@@ -195,7 +195,7 @@ export class NewtonState {
       const c = i * count;
       for (let s = 0; s < count; s++) weighted[c + s] = b[s] * columns[c + s];
     }
-    weightedCrossProducts(weighted, columns, n, count, this.hessian);
+    symmetricCrossProducts(weighted, columns, n, count, 1, this.hessian);
   }
 
   /**

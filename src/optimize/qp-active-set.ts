@@ -92,7 +92,6 @@ export class ActiveSetEngine {
   private y = new Float64Array(0);
   private yRows: Float64Array[] = [];
   private s = new Float64Array(0);
-  private t = new Float64Array(0);
   private nu = new Float64Array(0);
   private g = new Float64Array(0);
   private p = new Float64Array(0);
@@ -141,7 +140,6 @@ export class ActiveSetEngine {
       this.mMax = m;
       this.activeRows = new Int32Array(m);
       this.s = new Float64Array(m * m);
-      this.t = new Float64Array(m);
       this.nu = new Float64Array(m);
     }
     if (rowsChanged || this.y.length < this.mMax * this.nMax) {

@@ -1,4 +1,5 @@
 import { EstimationError } from '../estimate/errors.js';
+import { sampleMean } from '../estimate/means.js';
 import { EstimationWorkspace } from '../estimate/workspace.js';
 import type { RiskModel } from '../linalg/risk-model.js';
 import { covTimes } from '../linalg/risk-ops.js';
@@ -203,13 +204,13 @@ export function solveBaseOptima(
     rows = history.assets.periods;
     baseScenarios = new Float64Array(rows * n);
     // The history moved to the base mean (a no-op without views).
-    const sampleMean = estimateFromHistory(history, { covariance: { method: 'sample' }, factorModel: 'none' }).mean;
-    shiftedRows(history.assets.values, n, rows, undefined, difference(problem.mean, sampleMean, new Float64Array(n)), baseScenarios);
+    const historyMean = sampleMean(history.assets);
+    shiftedRows(history.assets.values, n, rows, undefined, difference(problem.mean, historyMean, new Float64Array(n)), baseScenarios);
   }
   const inputs: SolveInputs = { mean: problem.mean, riskModel: problem.riskModel, scenarios: baseScenarios, scenarioCount: rows };
   const base = solvers.map((s) => s.solve(inputs));
   const warnings: Warning[] = [];
-  problem.methods.forEach((spec, i) => {
+  problem.methods.forEach((spec) => {
     if (spec.name === 'kelly' && !scenarioKelly) {
       warnings.push({
         code: 'kelly-quadratic-approximation',

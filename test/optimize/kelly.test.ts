@@ -1,8 +1,6 @@
-import { Matrix } from 'ml-matrix';
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import { crraUtility, expectedUtility, kelly, KellyWorkspace } from '../../src/optimize/kelly.js';
-import { weightedCrossProducts } from '../../src/optimize/kelly-cross-products.js';
 import { estimateMultipliers, kktResidual } from '../../src/optimize/kkt.js';
 import { QpWorkspace } from '../../src/optimize/qp.js';
 import type { QpProblem } from '../../src/optimize/qp-types.js';
@@ -111,36 +109,6 @@ function independentKktResidual(scenarios: Float64Array, count: number, constrai
   const problem: QpProblem = { hessian: { kind: 'dense', n, matrix: new Float64Array(n * n) }, linear: g, constraints };
   return kktResidual(problem, w, estimateMultipliers(problem, w));
 }
-
-describe('kelly: Hessian kernel', () => {
-  it('Σ_s b_s r_s r_sᵀ from column-major inputs equals Rᵀ·diag(b)·R by ml-matrix, for odd and even sizes', () => {
-    // Reference: the matrix product in ml-matrix (general-purpose linear algebra library).
-    for (const n of [1, 2, 3, 4, 5, 7, 8, 9]) {
-      const m = 13;
-      const random = seedrandom(`kernel-${n}`);
-      const rows = Matrix.zeros(m, n);
-      const b = Array.from({ length: m }, () => random());
-      for (let s = 0; s < m; s++) for (let i = 0; i < n; i++) rows.set(s, i, random() - 0.5);
-      const columns = new Float64Array(n * m);
-      const weighted = new Float64Array(n * m);
-      for (let i = 0; i < n; i++) {
-        for (let s = 0; s < m; s++) {
-          columns[i * m + s] = rows.get(s, i);
-          weighted[i * m + s] = b[s] * rows.get(s, i);
-        }
-      }
-      const out = new Float64Array(n * n).fill(Number.NaN);
-      weightedCrossProducts(weighted, columns, n, m, out);
-      const expected = rows.transpose().mmul(Matrix.diag(b).mmul(rows));
-      for (let i = 0; i < n; i++) {
-        for (let j = 0; j < n; j++) {
-          expect(Math.abs(out[i * n + j] - expected.get(i, j))).toBeLessThan(1e-14);
-          expect(out[i * n + j]).toBe(out[j * n + i]);
-        }
-      }
-    }
-  });
-});
 
 describe('kelly: workspaces, warm starts and the convergence test', () => {
   const n = 8;
