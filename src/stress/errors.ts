@@ -13,5 +13,8 @@ export function classifyError(e: unknown): { status: 413 | 422; detail: string; 
   if (e instanceof EstimationError) return { status: 422, detail: `the inputs cannot be estimated: ${e.message}` };
   if (e instanceof TooManyFailuresError) return { status: 422, detail: e.message };
   if (e instanceof PolicyError) return { status: 422, detail: e.message, path: e.path };
+  // Numerical preconditions checked deep in the core (e.g. a covariance that passed validation's
+  // PSD tolerance but cannot be factorised for sampling) are about the inputs, not a bug.
+  if (e instanceof RangeError) return { status: 422, detail: `the inputs cannot be used numerically: ${e.message}` };
   return undefined;
 }
