@@ -16,10 +16,11 @@ export const LIMITS = {
   maxBodyBytes: 16 * 1024 * 1024,
   /**
    * Work budget: estimated floating-point operations for a whole stress request
-   * (operations per draw × draws × channels). About 30 s of CPU on one core of the
-   * machines this was measured on; see DEVELOPERS.md.
+   * (draws × (estimation + every solve in every channel); src/stress/work-estimate.ts).
+   * Measured at about 1–1.3 ns per counted operation on a 2-core development machine, so the
+   * budget is roughly 10–30 s of CPU, inside the Worker's configured cpu_ms (wrangler.toml).
    */
-  maxWorkUnits: 3e10,
+  maxWorkUnits: 2e10,
   /**
    * Numbers kept in memory for exact percentiles: draws × assets × (methods + 1), 8 bytes each.
    * 6e6 is 48 MB, leaving room in a 128 MB Workers isolate.
