@@ -217,12 +217,12 @@ async function checkCommand(file: string, values: Options): Promise<number> {
   return guarded(async () => {
     let baseline;
     if (values.baseline) {
-      const resolved = await resolveBaseline(parseJson(readInput(values.baseline), values.baseline), { ...options, onProgress: undefined });
+      const resolved = resolveBaseline(parseJson(readInput(values.baseline), values.baseline));
       if (!resolved.ok) {
         process.stderr.write(`${values.baseline}: invalid baseline\n${summarise(resolved.problems)}\n`);
         return EXIT.usage;
       }
-      baseline = resolved.report;
+      baseline = resolved.baseline;
     }
     const report = await checkProposal(loaded.proposal, loaded.warnings, policy as Policy, baseline, options);
     writeOutput(renderReport(report, format), values.out);

@@ -71,9 +71,9 @@ export function createApp(): Hono {
       const options = { clock, seed: validation.proposal.resampling?.seed, draws: validation.proposal.resampling?.draws };
       let baseline;
       if (envelope.data.baseline !== undefined) {
-        const resolved = await resolveBaseline(envelope.data.baseline, options);
+        const resolved = resolveBaseline(envelope.data.baseline);
         if (!resolved.ok) return invalid(resolved.problems);
-        baseline = resolved.report;
+        baseline = resolved.baseline;
       }
       return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, options));
     });

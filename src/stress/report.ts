@@ -9,10 +9,8 @@ import { expectedShortfall } from './scenarios.js';
 import { findingsFor } from './findings.js';
 import { PERCENTILE_DEFINITION } from './quantiles.js';
 import type { ScalarSummary } from './scalar-accumulator.js';
-import { outsideBandShare } from './stability.js';
+import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
 
-/** Tolerance for "outside the band": a weight within 1e-9 of a band edge is on it. */
-const BAND_EDGE_TOLERANCE = 1e-9;
 
 /** A finite number for the report; NaN (not estimable, e.g. an sd from one draw) becomes 0 with a warning elsewhere. */
 function finite(x: number): number {

@@ -1,4 +1,4 @@
-import type { Policy, Proposal } from '../schema/proposal.js';
+import type { MethodName, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
 import type { OptimizeResponse, Report } from '../schema/report.js';
 import type { Warning } from '../schema/validate.js';
 import { CAUTIONS } from '../schema/cautions.js';
@@ -8,6 +8,7 @@ import { inputDigest } from './digest.js';
 import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
 import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
+import { pairedStdErr, type StressRun } from './paired.js';
 import { judge } from './verdict.js';
 
 /**
@@ -62,7 +63,8 @@ function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions):
   return acc;
 }
 
-export async function stressProposal(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<Omit<Report, 'verdict'>> {
+/** Stresses a proposal and keeps the per-draw data (for paired gate comparisons). */
+export async function stressRun(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<{ report: Omit<Report, 'verdict'>; run: StressRun }> {
   const clock = options.clock ?? (() => 0);
   const started = clock();
   const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed });
@@ -74,16 +76,31 @@ export async function stressProposal(proposal: Proposal, warnings: Warning[], op
     );
   }
   const digest = await inputDigest(proposal);
-  return buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) });
+  return { report: buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) }), run: { plan, acc } };
 }
 
-export async function checkProposal(
-  proposal: Proposal,
-  warnings: Warning[],
-  policy: Policy,
-  baseline: Omit<Report, 'verdict'> | undefined,
-  options: RunOptions = {},
-): Promise<Report> {
-  const report = await stressProposal(proposal, warnings, options);
-  return { ...report, verdict: judge(report, policy, baseline) };
+export async function stressProposal(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<Omit<Report, 'verdict'>> {
+  return (await stressRun(proposal, warnings, options)).report;
+}
+
+/** A gate baseline: an earlier report, or an earlier proposal to stress now with the candidate's seed and draws. */
+export type Baseline = { readonly kind: 'report'; readonly report: Omit<Report, 'verdict'> } | { readonly kind: 'proposal'; readonly proposal: Proposal; readonly warnings: Warning[] };
+
+/**
+ * Stress and judge. With a baseline proposal both runs share their random numbers (same seed and
+ * draws), and maxIncrease rules use the paired batch-by-batch error of the difference; with a
+ * baseline report only the two reports' errors are available (combined conservatively).
+ */
+export async function checkProposal(proposal: Proposal, warnings: Warning[], policy: Policy, baseline: Baseline | undefined, options: RunOptions = {}): Promise<Report> {
+  const candidate = await stressRun(proposal, warnings, options);
+  if (!baseline || baseline.kind === 'report') {
+    return { ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report) };
+  }
+  const base = await stressRun(baseline.proposal, baseline.warnings, {
+    draws: candidate.run.plan.draws,
+    seed: candidate.run.plan.seed,
+    clock: options.clock,
+  });
+  const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
+  return { ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) };
 }

@@ -44,11 +44,17 @@ const fmt = (x: number): string => (Math.abs(x) >= 1e-3 || x === 0 ? x.toFixed(4
 /**
  * Judges each rule. A rule fails only when its value is beyond the threshold by more than the
  * Monte Carlo error allows at the policy's confidence: one-sided, value − z·se > max or
- * value + z·se < min, z = Φ⁻¹(confidence). For maxIncrease the difference to the baseline has
- * standard error √(se² + se_baseline²) — conservative, since common random numbers make the two
- * runs positively correlated and the true error of the difference smaller.
+ * value + z·se < min, z = Φ⁻¹(confidence). For maxIncrease the error of the difference is the
+ * paired batch-by-batch error when both runs share their random numbers (`pairedStdErr`), else
+ * √(se² + se_baseline²) — conservative, since common random numbers make the runs positively
+ * correlated and the true error of the difference smaller.
  */
-export function judge(report: ReportBody, policy: Policy, baseline?: ReportBody): Verdict {
+export function judge(
+  report: ReportBody,
+  policy: Policy,
+  baseline?: ReportBody,
+  pairedStdErr?: (metric: PolicyRule['metric'], method: MethodName) => number | undefined,
+): Verdict {
   const z = normalQuantile(policy.confidence);
   const rules = policy.rules.map((rule, i) => {
     const method = rule.method ?? report.proposal.method.name;
@@ -72,7 +78,8 @@ export function judge(report: ReportBody, policy: Policy, baseline?: ReportBody)
     const before = metricOf(baseline, rule.metric, method);
     if (!before) throw new PolicyError([...path, 'method'], `the baseline has no figures for method "${method}"`);
     const increase = est.value - before.value;
-    const se = Math.hypot(est.stdErr, before.stdErr);
+    const paired = pairedStdErr?.(rule.metric, method);
+    const se = paired ?? Math.hypot(est.stdErr, before.stdErr);
     const pass = !(increase - z * se > limit);
     return {
       ...base,
@@ -82,7 +89,7 @@ export function judge(report: ReportBody, policy: Policy, baseline?: ReportBody)
       kind: 'maxIncrease' as const,
       baselineValue: before.value,
       pass,
-      message: `${rule.metric} for ${method} rose from ${fmt(before.value)} to ${fmt(est.value)} (change ${fmt(increase)} ± ${fmt(se)}); the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}.`,
+      message: `${rule.metric} for ${method} went from ${fmt(before.value)} to ${fmt(est.value)} (change ${fmt(increase)} ± ${fmt(se)}, ${paired === undefined ? 'unpaired error' : 'paired over common random numbers'}); the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}.`,
     };
   });
   return { pass: rules.every((r) => r.pass), confidence: policy.confidence, rules };
