@@ -137,14 +137,15 @@ async function guarded(run: () => Promise<number>): Promise<number> {
   }
 }
 
-function runOptions(values: Options, proposal: Proposal): RunOptions {
+/** --draws and --seed override the proposal's own resampling settings (absent: the proposal's). */
+function runOptions(values: Options): RunOptions {
   let draws: number | undefined;
   if (values.draws !== undefined) {
     draws = Number(values.draws);
     if (!Number.isInteger(draws) || draws < 1) throw new UsageError(`--draws must be a positive integer, got "${values.draws}"`);
   }
   const seed = values.seed === undefined ? undefined : /^-?\d+$/.test(values.seed) ? Number(values.seed) : values.seed;
-  return { draws: draws ?? proposal.resampling?.draws, seed: seed ?? proposal.resampling?.seed, clock: () => performance.now(), onProgress: progressBar() };
+  return { draws, seed, clock: () => performance.now(), onProgress: progressBar() };
 }
 
 /** A progress bar on stderr when it is a terminal (never in pipes or CI logs). */
@@ -193,7 +194,7 @@ async function stressCommand(file: string, values: Options): Promise<number> {
   const loaded = loadProposal(file);
   if (!loaded) return EXIT.usage;
   return guarded(async () => {
-    const report = await stressProposal(loaded.proposal, loaded.warnings, runOptions(values, loaded.proposal));
+    const report = await stressProposal(loaded.proposal, loaded.warnings, runOptions(values));
     writeOutput(renderReport(report, format), values.out);
     return EXIT.ok;
   });
@@ -213,7 +214,7 @@ async function checkCommand(file: string, values: Options): Promise<number> {
     policy = parsed.data;
   }
   if (!policy) throw new UsageError('wobble check needs --policy FILE (or a policy inside the proposal)');
-  const options = runOptions(values, loaded.proposal);
+  const options = runOptions(values);
   return guarded(async () => {
     let baseline;
     if (values.baseline) {

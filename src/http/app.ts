@@ -68,14 +68,13 @@ export function createApp(): Hono {
     const policy = envelope.data.policy ?? validation.proposal.policy;
     if (!policy) return invalid([problem(['policy'], 'required field missing: a policy here or in proposal.policy')]);
     return respond(async () => {
-      const options = { clock, seed: validation.proposal.resampling?.seed, draws: validation.proposal.resampling?.draws };
       let baseline;
       if (envelope.data.baseline !== undefined) {
         const resolved = resolveBaseline(envelope.data.baseline);
         if (!resolved.ok) return invalid(resolved.problems);
         baseline = resolved.baseline;
       }
-      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, options));
+      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, { clock }));
     });
   });
 

@@ -254,16 +254,6 @@ export function dot(a: Float64Array, b: Float64Array, n: number = a.length): num
   return s;
 }
 
-/** max_i |a_i| over the first n entries (0 for n = 0). */
-export function maxAbs(a: Float64Array, n: number = a.length): number {
-  let m = 0;
-  for (let i = 0; i < n; i++) {
-    const v = Math.abs(a[i]);
-    if (v > m) m = v;
-  }
-  return m;
-}
-
 /** Trace of the n×n matrix a. */
 export function trace(a: Float64Array, n: number): number {
   let s = 0;

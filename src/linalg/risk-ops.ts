@@ -44,14 +44,6 @@ export function covTimes(model: RiskModel, x: Float64Array, out: Float64Array, s
   return out;
 }
 
-/** xᵀΣx. */
-export function quadraticForm(model: RiskModel, x: Float64Array, scratchN?: Float64Array): number {
-  const sx = covTimes(model, x, scratchN && scratchN.length >= model.n ? scratchN : new Float64Array(model.n));
-  let s = 0;
-  for (let i = 0; i < model.n; i++) s += x[i] * sx[i];
-  return s;
-}
-
 /** Diagonal of Σ (asset variances). */
 export function assetVariances(model: RiskModel, out: Float64Array = new Float64Array(model.n)): Float64Array {
   const n = model.n;

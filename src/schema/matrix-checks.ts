@@ -1,10 +1,11 @@
-import { CholeskyDecomposition, EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { choleskyDecompose } from '../linalg/dense.js';
+import { symmetricEigenDecomposition } from '../linalg/eigen.js';
 import { TOLERANCES } from './limits.js';
 import { problem, type PathPart, type Problem } from './problems.js';
 
 /**
- * Checks of a caller's matrix: shape, symmetry, positive semi-definiteness.
- * Speed does not matter here (once per request), so ml-matrix is used.
+ * Checks of a caller's matrix: shape, symmetry, positive semi-definiteness (with the project's
+ * own linear-algebra kernels).
  */
 
 /** Rows of length `cols`; returns false (with problems) if any row is off. */
@@ -54,10 +55,12 @@ export interface PsdCheck {
 
 /** PSD to within TOLERANCES.psd relative to the largest eigenvalue. Cholesky first; eigenvalues only when that fails. */
 export function checkPsd(m: readonly (readonly number[])[]): PsdCheck {
-  const a = new Matrix(m.map((r) => [...r]));
-  if (new CholeskyDecomposition(a).isPositiveDefinite()) return { psd: true };
-  const values = new EigenvalueDecomposition(a, { assumeSymmetric: true }).realEigenvalues;
-  const smallest = Math.min(...values);
-  const largest = Math.max(...values);
+  const n = m.length;
+  const a = new Float64Array(n * n);
+  m.forEach((row, i) => a.set(row, i * n));
+  if (choleskyDecompose(Float64Array.from(a), n) < 0) return { psd: true };
+  const values = symmetricEigenDecomposition(a, n).values;
+  const smallest = values[n - 1];
+  const largest = values[0];
   return { psd: smallest >= -TOLERANCES.psd * Math.max(1, Math.abs(largest)), smallestEigenvalue: smallest };
 }

@@ -158,6 +158,9 @@ export const ViewsSchema = z
   })
   .describe('Return forecasts with their own uncertainty.');
 
+/** The six methods, in report order. Adding a method starts here (DEVELOPERS.md). */
+export const METHOD_NAMES = ['mean-variance', 'minimum-variance', 'kelly', 'risk-parity', 'equal-weight', 'inverse-volatility'] as const;
+
 export const PolicyRuleSchema = z.strictObject({
   id: z.string().min(1).optional().describe('Rule id shown in the verdict (default: metric).'),
   metric: z
@@ -171,7 +174,7 @@ export const PolicyRuleSchema = z.strictObject({
     ])
     .describe('The report figure the rule constrains.'),
   method: z
-    .enum(['mean-variance', 'minimum-variance', 'kelly', 'risk-parity', 'equal-weight', 'inverse-volatility'])
+    .enum(METHOD_NAMES)
     .optional()
     .describe("Which method's figures (default: the proposal's method)."),
   max: finite.optional().describe('Fails when the value is above this by more than Monte Carlo error allows.'),
@@ -212,11 +215,3 @@ export type HistoryInputs = z.output<typeof HistoryInputsSchema>;
 export type MomentsInputs = z.output<typeof MomentsInputsSchema>;
 export type FactorInputs = z.output<typeof FactorInputsSchema>;
 
-export const METHOD_NAMES: readonly MethodName[] = [
-  'mean-variance',
-  'minimum-variance',
-  'kelly',
-  'risk-parity',
-  'equal-weight',
-  'inverse-volatility',
-];

@@ -109,6 +109,9 @@ export const ReportMetaSchema = z.strictObject({
   percentiles: z.string().describe('The percentile definition used everywhere.'),
   monteCarloError: z.string().describe('How standard errors are computed.'),
   workUnits: z.number().describe('Estimated operations for this request, checked against the limit.'),
+  baseEstimation: z
+    .record(z.string(), z.number())
+    .describe('What the estimator reports for the base inputs, e.g. the Ledoit–Wolf shrinkage intensity (0 = sample matrix) or a PCA model’s explained variance share.'),
 });
 
 export const VerdictRuleSchema = z.strictObject({

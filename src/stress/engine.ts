@@ -2,8 +2,7 @@ import { EstimationError } from '../estimate/errors.js';
 import { sampleMean } from '../estimate/means.js';
 import { EstimationWorkspace } from '../estimate/workspace.js';
 import type { RiskModel } from '../linalg/risk-model.js';
-import { covTimes } from '../linalg/risk-ops.js';
-import { factorVarianceOf, riskContributionSharesInto, specificVarianceOf } from '../optimize/risk-decomposition.js';
+import { factorVarianceOf, portfolioVariance, riskContributionSharesInto, specificVarianceOf } from '../optimize/risk-decomposition.js';
 import { OptimizationError, type MethodResult } from '../optimize/types.js';
 import { drawBootstrapIndices } from '../resample/bootstrap.js';
 import { historyMeanBlockLength } from '../resample/block-length.js';
@@ -28,7 +27,7 @@ import { methodList, prepareProblem, type PreparedProblem } from './problem.js';
 import { ScalarAccumulator } from './scalar-accumulator.js';
 import { difference, expectedShortfall, shiftedRows } from './scenarios.js';
 import { WeightAccumulator } from './weight-accumulator.js';
-import { estimateWork, usesMean, type WorkShape } from './work-estimate.js';
+import { estimateWork, type WorkShape } from './work-estimate.js';
 
 /** A request over a service limit (HTTP 413). */
 export class LimitError extends Error {
@@ -162,13 +161,12 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
         : requested;
   }
   const scenarioKelly = history !== undefined && scheme !== 'parametric';
-  const n = problem.n;
 
   const { solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(problem, scenarioKelly);
   planWarnings.push(...baseWarnings);
 
   const reference = solveReferenceMeanVariance(problem, problem.methods, base);
-  const referenceCertaintyEquivalent = certaintyEquivalent(problem, reference, new Float64Array(n));
+  const referenceCertaintyEquivalent = certaintyEquivalent(problem, reference, createScratch(problem));
   const parametric =
     scheme === 'parametric'
       ? prepareParametricBase({ mean: problem.mean, risk: problem.riskModel, observations: problem.observations, meanStdErr: problem.viewStdErr })
@@ -226,20 +224,23 @@ export function solveBaseOptima(
  * Certainty equivalent at the base inputs, per period: μ₀ᵀw − ½(λ_f·wᵀBFBᵀw + λ_s·wᵀDw), or
  * μ₀ᵀw − (λ/2)·wᵀΣ₀w for a dense Σ (DeMiguel, Garlappi & Uppal 2009 score methods this way).
  */
-export function certaintyEquivalent(problem: PreparedProblem, w: Float64Array, scratch: Float64Array): number {
+export function certaintyEquivalent(problem: PreparedProblem, w: Float64Array, scratch: Scratch): number {
   let mu = 0;
   for (let i = 0; i < problem.n; i++) mu += problem.mean[i] * w[i];
   const model = problem.riskModel;
   const ra = problem.scoringRiskAversion;
-  if (model.kind === 'factor') return mu - 0.5 * (ra.factor * factorVarianceOf(model, w) + ra.specific * specificVarianceOf(model, w));
-  return mu - 0.5 * ra.factor * quadratic(model, w, scratch);
+  if (model.kind === 'factor') return mu - 0.5 * (ra.factor * factorVarianceOf(model, w, scratch.k) + ra.specific * specificVarianceOf(model, w));
+  return mu - 0.5 * ra.factor * portfolioVariance(model, w, scratch.n, scratch.k);
 }
 
-function quadratic(model: RiskModel, w: Float64Array, scratch: Float64Array): number {
-  covTimes(model, w, scratch);
-  let s = 0;
-  for (let i = 0; i < w.length; i++) s += w[i] * scratch[i];
-  return s;
+/** Scratch for covariance products: N entries, and 2K for a factor model (covTimes needs 2K). */
+export interface Scratch {
+  readonly n: Float64Array;
+  readonly k: Float64Array;
+}
+
+export function createScratch(problem: PreparedProblem): Scratch {
+  return { n: new Float64Array(problem.n), k: new Float64Array(problem.riskModel.kind === 'factor' ? 2 * problem.riskModel.k : 2) };
 }
 
 export function createAccumulators(plan: StressPlan): StressAccumulators {
@@ -296,7 +297,7 @@ interface DrawBuffers {
   readonly meanOnlyScenarios?: Float64Array;
   readonly covOnlyScenarios?: Float64Array;
   readonly shortfall: Float64Array;
-  readonly scratch: Float64Array;
+  readonly scratch: Scratch;
   readonly shares: Float64Array;
   readonly parametricScratch?: ParametricScratch;
   readonly parametricRisk?: RiskModel;
@@ -317,7 +318,7 @@ function createBuffers(plan: StressPlan): DrawBuffers {
     meanOnlyScenarios: scen(),
     covOnlyScenarios: scen(),
     shortfall: new Float64Array(Math.max(t, 1)),
-    scratch: new Float64Array(n),
+    scratch: createScratch(plan.problem),
     shares: new Float64Array(n),
     parametricScratch: plan.parametric ? createParametricScratch(plan.parametric) : undefined,
     parametricRisk: plan.parametric ? createResampledRiskModel(plan.parametric) : undefined,
@@ -411,12 +412,12 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
     }
     // The proposal itself under this draw's inputs.
     const jointRisk = inputs.joint.riskModel;
-    const variance = quadratic(jointRisk, proposal, buf.scratch);
+    const variance = portfolioVariance(jointRisk, proposal, buf.scratch.n, buf.scratch.k);
     acc.proposalVolatility.record(b, Math.sqrt(Math.max(variance, 0)) * sqrtPpy);
     let mu = 0;
     for (let i = 0; i < p.n; i++) mu += inputs.joint.mean[i] * proposal[i];
     acc.proposalReturn.record(b, mu * ppy);
-    riskContributionSharesInto(jointRisk, proposal, buf.shares);
+    riskContributionSharesInto(jointRisk, proposal, buf.shares, buf.scratch.k);
     acc.proposalRiskShares.record(b, buf.shares);
     if (inputs.rows && p.history) {
       acc.proposalShortfall.record(b, expectedShortfall(p.history.assets.values, p.n, p.history.assets.periods, inputs.rows, proposal, SHORTFALL_LEVEL, buf.shortfall));
@@ -440,7 +441,7 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
       m.weights.record(b, w);
       m.turnoverFromProposal.record(b, turnover(w, proposal));
       m.turnoverFromBase.record(b, turnover(w, base.weights));
-      m.volatility.record(b, Math.sqrt(Math.max(quadratic(jointRisk, w, buf.scratch), 0)) * sqrtPpy);
+      m.volatility.record(b, Math.sqrt(Math.max(portfolioVariance(jointRisk, w, buf.scratch.n, buf.scratch.k), 0)) * sqrtPpy);
       m.certaintyEquivalentLoss.record(b, (plan.referenceCertaintyEquivalent - certaintyEquivalent(p, w, buf.scratch)) * ppy);
       if (!solver.usesMean) {
         // The optimum ignores the means: the mean-only channel keeps the base weights (variance exactly 0)
@@ -465,4 +466,3 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
   }
 }
 
-export { usesMean };

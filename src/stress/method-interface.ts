@@ -14,8 +14,6 @@ export interface SolveInputs {
 export interface MethodSolver {
   /** Whether the optimum depends on the means: false methods skip the mean-only channel and report a mean-driven share of 0. */
   readonly usesMean: boolean;
-  /** Whether the method reads scenario rows (scenario Kelly). */
-  readonly usesScenarios: boolean;
   /** Solves; `warmStart` is a previous result's warm start for this method. Throws OptimizationError when there is no answer. */
   solve(inputs: SolveInputs, warmStart?: unknown): MethodResult;
 }

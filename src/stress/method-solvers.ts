@@ -30,13 +30,12 @@ export function createMethodSolver(spec: MethodSpec, problem: PreparedProblem, c
       const riskAversion = riskAversionOf(spec);
       return {
         usesMean: mean,
-        usesScenarios: false,
         solve: (x: SolveInputs, warmStart?: unknown) => meanVariance(x.riskModel, x.mean, constraints, riskAversion, { warmStart, workspace }),
       };
     }
     case 'minimum-variance': {
       const workspace = new QpWorkspace();
-      return { usesMean: false, usesScenarios: false, solve: (x, warmStart) => minimumVariance(x.riskModel, constraints, { warmStart, workspace }) };
+      return { usesMean: false, solve: (x, warmStart) => minimumVariance(x.riskModel, constraints, { warmStart, workspace }) };
     }
     case 'kelly': {
       const fraction = spec.fraction ?? 1;
@@ -45,14 +44,12 @@ export function createMethodSolver(spec: MethodSpec, problem: PreparedProblem, c
         // Continuous-time approximation: CRRA γ = 1/f behaves like mean-variance with λ = γ (the plan adds a warning).
         return {
           usesMean: true,
-          usesScenarios: false,
           solve: (x, warmStart) => meanVariance(x.riskModel, x.mean, constraints, 1 / fraction, { warmStart, workspace }),
         };
       }
       const kellyWorkspace = new KellyWorkspace();
       return {
         usesMean: true,
-        usesScenarios: true,
         solve: (x, warmStart) => {
           if (!x.scenarios || !x.scenarioCount) throw new Error('scenario Kelly needs scenario rows');
           return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace, kellyWorkspace });
@@ -63,14 +60,13 @@ export function createMethodSolver(spec: MethodSpec, problem: PreparedProblem, c
       const workspace = createRiskParityWorkspace(problem.riskModel);
       return {
         usesMean: false,
-        usesScenarios: false,
         solve: (x, warmStart) => solveRiskParity(x.riskModel, { budgets: spec.budgets, warmStart, constraints, assetNames, workspace }),
       };
     }
     case 'equal-weight':
-      return { usesMean: false, usesScenarios: false, solve: () => equalWeight(problem.n, { constraints, assetNames }) };
+      return { usesMean: false, solve: () => equalWeight(problem.n, { constraints, assetNames }) };
     case 'inverse-volatility':
-      return { usesMean: false, usesScenarios: false, solve: (x) => inverseVolatility(x.riskModel, { constraints, assetNames }) };
+      return { usesMean: false, solve: (x) => inverseVolatility(x.riskModel, { constraints, assetNames }) };
   }
 }
 

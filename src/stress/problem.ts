@@ -1,3 +1,4 @@
+import { RISKMETRICS_DAILY_DECAY } from '../estimate/ewma.js';
 import { returnHistoryFromRows } from '../estimate/history.js';
 import { nearestPsd, smallestEigenvalue } from '../estimate/psd.js';
 import type { RiskModel } from '../linalg/risk-model.js';
@@ -13,9 +14,6 @@ import { estimateFromHistory, type EstimationPlan, type HistoryData } from './es
  * the certainty-equivalent score of methods that have no risk aversion of their own.
  */
 export const DEFAULT_RISK_AVERSION = 4;
-
-/** EWMA decay when none is given (RiskMetrics 1996 daily choice; common practice). */
-export const DEFAULT_EWMA_DECAY = 0.94;
 
 /** Risk aversion split into factor and specific parts (equal when a single λ is given). */
 export interface RiskAversion {
@@ -128,7 +126,7 @@ export function prepareProblem(proposal: Proposal, warnings: Warning[] = []): Pr
     plan = {
       covariance:
         est?.covariance === 'ewma'
-          ? { method: 'ewma', decay: est.ewmaDecay ?? DEFAULT_EWMA_DECAY }
+          ? { method: 'ewma', decay: est.ewmaDecay ?? RISKMETRICS_DAILY_DECAY }
           : { method: est?.covariance ?? 'sample' },
       factorModel: est?.factorModel ?? 'none',
       pcaFactors: est?.pcaFactors,

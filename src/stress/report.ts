@@ -12,7 +12,7 @@ import type { ScalarSummary } from './scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
 
 
-/** A finite number for the report; NaN (not estimable, e.g. an sd from one draw) becomes 0 with a warning elsewhere. */
+/** A finite number for the report; NaN (not estimable: too few successful draws) becomes 0, with a 'few-draws' or 'method-not-estimable' warning. */
 function finite(x: number): number {
   return Number.isFinite(x) ? clean(x) : 0;
 }
@@ -41,6 +41,12 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     const a = acc.methods[k];
     const spec = p.methods[k];
     const summary = a.weights.summarize(p.proposalWeights);
+    if (summary.successfulDraws < 2) {
+      warnings.push({
+        code: 'method-not-estimable',
+        message: `${spec.name} succeeded in ${summary.successfulDraws} of ${plan.draws} draws: its draw-based figures cannot be estimated and are reported as 0 (see meta.failureReasons).`,
+      });
+    }
     const shares = a.channels.summarize();
     const stability = outsideBandShare(a.weights.rows(), plan.draws, n, p.proposalWeights, BAND_EDGE_TOLERANCE);
     let maxSd = 0;
@@ -140,6 +146,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       percentiles: PERCENTILE_DEFINITION,
       monteCarloError: MONTE_CARLO_ERROR_DESCRIPTION,
       workUnits: Math.round(plan.workUnits),
+      baseEstimation: Object.fromEntries(Object.entries(p.estimationNotes).map(([k, v]) => [k, clean(v)])),
     },
     assets: [...p.assets],
     proposal,

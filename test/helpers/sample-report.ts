@@ -305,6 +305,7 @@ export function sampleReport(options: SampleReportOptions = {}): Report {
       percentiles: 'Hyndman & Fan (1996) type 7: linear interpolation between order statistics.',
       monteCarloError: 'Means: sd/√draws. Percentiles and shares: batch means over 25 batches.',
       workUnits: 4.2e7,
+      baseEstimation: { shrinkage: 0.21, effectiveObservations: 180 },
     },
     assets,
     proposal: {

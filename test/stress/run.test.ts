@@ -87,6 +87,14 @@ describe('stressProposal', () => {
     expect(r.meta.meanBlockLength).toBeGreaterThanOrEqual(1);
   });
 
+  it("reports the base estimator's figures, e.g. the Ledoit–Wolf shrinkage intensity", async () => {
+    const v = valid(historyProposal(60, { estimation: { covariance: 'ledoit-wolf' }, resampling: { draws: 20, seed: 1 } }));
+    const r = await stressProposal(v.proposal, v.warnings);
+    // Ledoit & Wolf (2004): the intensity lies in [0, 1]; with 60 rows and 4 assets it is small but positive.
+    expect(r.meta.baseEstimation.shrinkage).toBeGreaterThan(0);
+    expect(r.meta.baseEstimation.shrinkage).toBeLessThan(1);
+  });
+
   it('refuses work over the limits, naming the limit', async () => {
     const v = valid(historyProposal());
     await expect(stressProposal(v.proposal, v.warnings, { draws: 10_000 })).rejects.toThrow(/maxDraws/);
