@@ -63,6 +63,7 @@ const PROBLEM_DESCRIPTIONS: Record<ProblemStatus, string> = {
   422: 'Valid, but without an answer (e.g. infeasible constraints, unstable inputs, a rule needing a baseline).',
   429: 'Too many requests from this client; retry after `Retry-After` seconds.',
   500: 'A bug in the service, or a deployment whose configuration cannot be read.',
+  503: 'The deployment\'s configuration cannot be read (details in the Worker logs); the /v1/* POST routes refuse to run until it is fixed.',
 };
 
 function problemResponse(status: ProblemStatus): JsonObject {

@@ -37,6 +37,7 @@ export const PROBLEM_TITLES = {
   422: ['unsolvable', 'The proposal is valid but cannot be solved'],
   429: ['rate-limited', 'Too many requests'],
   500: ['internal', 'Internal error'],
+  503: ['unavailable', 'The service cannot serve requests'],
 } as const satisfies Record<number, readonly [string, string]>;
 
 export type ProblemStatus = keyof typeof PROBLEM_TITLES;

@@ -30,13 +30,20 @@ export const healthRoute: RouteDefinition = {
   path: '/healthz',
   operationId: 'getHealth',
   summary: 'Liveness',
-  description: 'Answers 200 while the service runs. Not counted against the rate limit and never needs a token.',
+  description: 'Answers 200 while the service runs and its configuration reads, 503 when a setting cannot be read. Not counted against the rate limit and never needs a token.',
   tag: 'service',
   protected: false,
   cache: 'noStore',
   success: { description: 'The service is up.', content: { 'application/json': { component: 'Health' } } },
-  problems: [],
-  handle: (c) => c.json({ status: 'ok' as const, version: VERSION }),
+  problems: [503],
+  handle: (c, config) => {
+    // The setting's name and value stay in the logs: a public health check only says that something is wrong.
+    if (config.problems.length > 0) {
+      console.error(`wobble configuration: ${config.problems.join('; ')}`);
+      return problemResponse(503, 'the service is misconfigured; its operator can read why in the Worker logs');
+    }
+    return c.json({ status: 'ok' as const, version: VERSION });
+  },
 };
 
 export const SchemaPathSchema = z.object({
