@@ -41,6 +41,8 @@ export function createApp(routes: readonly RouteDefinition[] = ROUTES): Hono<App
     c.set('routes', routes);
     await next();
     const route = routeFor(c);
+    // A fresh Response: one passed through from a fetch (a Durable Object, say) has immutable headers.
+    c.res = new Response(c.res.body, c.res);
     const headers = c.res.headers;
     applySecurityHeaders(headers, { ownCsp: route?.ownCsp === true && c.res.status < 300 });
     // Errors are never cached; a route's own policy applies to its successes (and 304s).

@@ -2,6 +2,8 @@ import { gzipSync } from 'node:zlib';
 import { beforeEach, describe, expect, it, vi } from 'vitest';
 import { createApp } from '../../src/http/app.js';
 import type { RateLimitBinding, ServiceBindings } from '../../src/http/config.js';
+import type { RouteDefinition } from '../../src/http/route.js';
+import { healthRoute } from '../../src/http/routes/discovery.js';
 import { ROUTES } from '../../src/http/routes/index.js';
 import { LIMITS } from '../../src/schema/limits.js';
 import { momentsProposal } from '../helpers/proposals.js';
@@ -161,6 +163,15 @@ describe('methods, routes and headers', () => {
       expect(await again.text()).toBe('');
       expect((await call(path, { headers: { 'if-none-match': '"other"' } })).status).toBe(200);
     }
+  });
+
+  it('adds the headers to a route added to the table, even when its response has immutable headers (as a fetched one has)', async () => {
+    const passThrough: RouteDefinition = { ...healthRoute, path: '/v1/pass-through', operationId: 'passThrough', handle: () => Response.redirect('https://wobble.test/healthz', 302) };
+    const extended = createApp([...ROUTES, passThrough]);
+    const res = await extended.request('https://wobble.test/v1/pass-through');
+    expect(res.status).toBe(302);
+    expect(res.headers.get('x-content-type-options')).toBe('nosniff');
+    expect((await extended.request('https://wobble.test/v1/pass-through', { method: 'POST' })).headers.get('allow')).toBe('GET, HEAD, OPTIONS');
   });
 
   it('answers HEAD like GET without a body, and plain OPTIONS with Allow', async () => {
