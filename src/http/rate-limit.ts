@@ -16,9 +16,19 @@ export function clientKey(request: Request, tokenKey: string | undefined): strin
   return address ? `ip:${address}` : 'ip:unknown';
 }
 
-/** True when the request may go on. No binding (local runs, Node): no limit. */
+/**
+ * True when the request may go on. No binding (Node, a deployment without [[ratelimits]]): no
+ * limit. If the binding itself fails, the request goes on and the failure is logged: the limit
+ * guards against floods, it is not access control (the token is), so an outage of the counter
+ * should not take the service down with it.
+ */
 export async function withinRateLimit(limiter: RateLimitBinding | undefined, key: string): Promise<boolean> {
   if (!limiter) return true;
-  const { success } = await limiter.limit({ key });
-  return success;
+  try {
+    const { success } = await limiter.limit({ key });
+    return success;
+  } catch (e) {
+    console.error('wobble rate limit: the binding failed; letting the request through', e);
+    return true;
+  }
 }

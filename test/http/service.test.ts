@@ -272,6 +272,12 @@ describe('rate limiting (WOBBLE_RATE_LIMITER binding)', () => {
     expect(limiter.keys).toEqual(['ip:192.0.2.1', 'ip:192.0.2.1', 'ip:192.0.2.1', 'ip:192.0.2.2']);
   });
 
+  it('lets requests through (and logs) when the binding itself fails', async () => {
+    const broken: RateLimitBinding = { limit: () => Promise.reject(new Error('counter unavailable')) };
+    expect((await post('/v1/optimize', small(), { WOBBLE_RATE_LIMITER: broken })).status).toBe(200);
+    expect(console.error).toHaveBeenCalled();
+  });
+
   it('keys token callers by a digest of their token, never the token itself', async () => {
     const limiter = countingLimiter(10);
     await post('/v1/optimize', small(), { WOBBLE_RATE_LIMITER: limiter, WOBBLE_API_TOKEN: 'the-secret-token' }, { ...json, authorization: 'Bearer the-secret-token' });
