@@ -1,5 +1,6 @@
 import { choleskyDecompose, choleskySolveInPlace } from '../linalg/dense.js';
 import type { BreakEven, PatternChangeAt, PatternState } from './forecast-sensitivity.js';
+import { followPath } from './forecast-sensitivity-path.js';
 import { buildReducedHessian, QpWorkspace, solveQp } from './qp.js';
 import type { ReducedHessian } from './qp-hessian.js';
 import type { QpProblem, QpSolution } from './qp-types.js';
@@ -59,7 +60,9 @@ export class QpForecastSensitivity {
   /** Pattern at the base optimum: asset states (−1, 0, +1) and group states. */
   readonly assetState: Int8Array;
   readonly groupState: Int8Array;
-  /** Solves of the QP made by weightsAt beyond a breakpoint (for the work count). */
+  /** Optima beyond a breakpoint found by following the path (one base-factor solve per breakpoint crossed). */
+  pathFollows = 0;
+  /** Warm-started re-solves where the path could not be followed (degenerate breakpoints). */
   resolves = 0;
 
   private readonly problem: QpProblem;
@@ -151,6 +154,52 @@ export class QpForecastSensitivity {
     if (choleskyDecompose(this.schur, m, this.schur, m, 1e-13) >= 0) {
       throw new QpSensitivityUnavailable('the active constraints are linearly dependent on the free weights (a degenerate optimum)');
     }
+  }
+
+  /** The QP and its base optimum (read-only views for the path follower). */
+  get baseProblem(): QpProblem {
+    return this.problem;
+  }
+  get baseSolution(): QpSolution {
+    return this.solution;
+  }
+  /** Active rows of the base pattern: dense coefficients and group index (−1: the budget). */
+  get activeRows(): readonly Float64Array[] {
+    return this.rowCoefficients;
+  }
+  get activeRowGroups(): Int32Array {
+    return this.rowGroup;
+  }
+
+  /**
+   * Solves the base KKT system  M u + A_Fᵀλ = r_F,  A_F u = s  (u on F, zero elsewhere) with the
+   * one factorisation: λ = S⁻¹(Yᵀr − s), u = M⁻¹r − Yλ, Y = M⁻¹A_Fᵀ. One solve with M.
+   */
+  kktSolve(r: Float64Array, s: Float64Array, u: Float64Array, lambda: Float64Array): void {
+    const free = this.free;
+    const nf = this.nFree;
+    const rhs = this.rhs;
+    for (let q = 0; q < nf; q++) rhs[free[q]] = r[free[q]];
+    u.fill(0);
+    if (nf > 0) this.hessian.solve(rhs, u, free, nf);
+    const m = this.rowCoefficients.length;
+    for (let a = 0; a < m; a++) {
+      const ya = this.rowSolves[a];
+      let acc = 0;
+      for (let q = 0; q < nf; q++) acc += ya[free[q]] * r[free[q]];
+      lambda[a] = acc - s[a];
+    }
+    choleskySolveInPlace(this.schur, m, lambda, m);
+    for (let a = 0; a < m; a++) {
+      const ya = this.rowSolves[a];
+      const v = lambda[a];
+      for (let q = 0; q < nf; q++) u[free[q]] -= v * ya[free[q]];
+    }
+  }
+
+  /** out ← H·v for a v that is zero outside `support` (true H, no augmentation). */
+  hessianTimes(v: Float64Array, support: Int32Array, count: number, out: Float64Array): void {
+    this.hessian.multiplyFree(v, support, count, out);
   }
 
   /** The breakpoints of c_i both ways and the direction dx/dc_i on the base pattern. */
@@ -293,8 +342,9 @@ export class QpForecastSensitivity {
 
   /**
    * The exact optimum with c_i moved by `shift` (either sign): linear along the base direction up
-   * to the first breakpoint, beyond it a re-solve warm-started from the base optimum (the path is
-   * piecewise linear; the solver walks the remaining breakpoints).
+   * to the first breakpoint; beyond it the piecewise-linear path is followed through every
+   * breakpoint with the base factorisation (forecast-sensitivity-path.ts), or — when that is not
+   * possible at a degenerate breakpoint — the QP is re-solved warm-started from the base optimum.
    */
   weightsAt(i: number, shift: number, known?: QpShiftResult): Float64Array {
     const r = known ?? this.shiftsOf(i);
@@ -304,6 +354,11 @@ export class QpForecastSensitivity {
       const out = new Float64Array(this.n);
       for (let j = 0; j < this.n; j++) out[j] = x[j] + shift * r.direction[j];
       return out;
+    }
+    const followed = followPath(this, i, shift);
+    if (followed) {
+      this.pathFollows++;
+      return followed;
     }
     const linear = Float64Array.from(this.problem.linear);
     linear[i] += shift;

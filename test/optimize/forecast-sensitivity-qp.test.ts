@@ -83,6 +83,45 @@ describe('QpForecastSensitivity', () => {
     expect(tested).toBeGreaterThan(100);
   });
 
+  it('property: past the break-even, the optimum found by following the path through its breakpoints equals a fresh solve', () => {
+    let followed = 0;
+    fc.assert(
+      fc.property(problemArbitrary, fc.double({ min: 1.01, max: 30, noNaN: true }), (a, beyond) => {
+        const n = a.n;
+        const model: DenseRiskModel = { kind: 'dense', n, cov: covarianceFrom(n, a.entries, a.diag) };
+        const constraints: ConstraintSet = {
+          n,
+          lower: new Float64Array(n),
+          upper: new Float64Array(n).fill(a.cap),
+          budget: 1,
+          groups: a.groupSize > 0 ? [{ name: 'g', members: Int32Array.from({ length: a.groupSize }, (_, i) => i), min: -Infinity, max: Math.max(a.groupMax, 0) }] : [],
+        };
+        const mean = Float64Array.from(a.mean);
+        let base;
+        try {
+          base = meanVariance(model, mean, constraints, a.riskAversion);
+        } catch {
+          return true;
+        }
+        const problem = meanVarianceProblem(model, mean, constraints, a.riskAversion);
+        const sensitivity = new QpForecastSensitivity(problem, base.solution);
+        const r = sensitivity.shiftsOf(a.asset);
+        const limit = a.up ? r.up : r.down;
+        if (limit === null || limit < 1e-6) return true;
+        const t = (a.up ? 1 : -1) * beyond * limit;
+        const linear = Float64Array.from(mean);
+        linear[a.asset] += t;
+        const fresh = solveQp({ ...problem, linear }).x;
+        const ours = sensitivity.weightsAt(a.asset, t, r);
+        for (let j = 0; j < n; j++) expect(Math.abs(ours[j] - fresh[j])).toBeLessThan(1e-8);
+        followed += sensitivity.pathFollows;
+        return true;
+      }),
+      { numRuns: 200, seed: 1203 },
+    );
+    expect(followed).toBeGreaterThan(100);
+  });
+
   it('an asset at a bound: only its own multiplier moves, so lowering an asset at its lower bound never changes anything', () => {
     const n = 3;
     const cov = Float64Array.of(0.0025, 0.0005, 0.0002, 0.0005, 0.0036, 0.0004, 0.0002, 0.0004, 0.0049);

@@ -204,20 +204,22 @@ describe('break-even shifts against quadprog (Goldfarb & Idnani 1983), tight on 
       expect(checked).toBeGreaterThan(8);
     });
 
-    it(`${c.kind}: the optimum at ±1 standard error (crossing breakpoints) equals quadprog's, so its turnover is exact`, () => {
+    it(`${c.kind}: the optimum at shifts crossing breakpoints (path followed from the base factorisation) equals quadprog's, so its turnover is exact`, () => {
       const { problem, sensitivity, x } = setUp(c);
       const h = denseHessian(problem);
       for (let i = 0; i < x.length; i++) {
         const r = sensitivity.shiftsOf(i);
-        // 0.5 % a month: past the first breakpoint for most assets here.
-        for (const t of [0.005, -0.005]) {
+        // Up to 2 % a month: past several breakpoints for most assets here.
+        for (const t of [0.005, -0.005, 0.02, -0.02]) {
           const ours = sensitivity.weightsAt(i, t, r);
           const theirs = quadprogSolve(shifted(problem, i, t), h);
           expect(maxAbsDiff(ours, theirs)).toBeLessThan(1e-9);
           expect(Math.abs(oneWayTurnover(ours, x) - oneWayTurnover(theirs, x))).toBeLessThan(1e-9);
         }
       }
-      expect(sensitivity.resolves).toBeGreaterThan(0);
+      // Every one followed the path through its breakpoints with the base factorisation.
+      expect(sensitivity.pathFollows).toBeGreaterThan(0);
+      expect(sensitivity.resolves).toBe(0);
     });
   }
 });
@@ -339,7 +341,7 @@ describe('scenario Kelly break-even shifts against brute-force re-solves', () =>
 });
 
 describe('KKT conditions of the optimum past a breakpoint', () => {
-  it('the warm-started re-solve beyond the first breakpoint satisfies KKT (Nocedal & Wright, Theorem 12.1)', () => {
+  it('the optimum reported three breakpoint-distances past the first one satisfies KKT (Nocedal & Wright, Theorem 12.1)', () => {
     const c = fixture.cases[0];
     const { problem, sensitivity } = setUp(c);
     const r = sensitivity.shiftsOf(0);
