@@ -184,7 +184,6 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
       if (b.kind === 'release') d[b.k] = w[a];
       else if (b.kind === 'fix') d[b.j] = 0;
     }
-    for (let j = 0; j < n; j++) if (!baseFree[j] && !borders.some((b) => b.border.kind === 'release' && b.border.k === j)) d[j] = 0;
     // Group multiplier rates: base rows −λ (0 once dropped), added rows −w.
     dnu.fill(0);
     for (let a = 1; a < m; a++) dnu[rowGroup[a]] = -lambda[a];
@@ -211,12 +210,18 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
     for (let j = 0; j < n; j++) rateScale = Math.max(rateScale, Math.abs(hd[j]));
     const xTol = RATE_TOLERANCE * dScale;
     const zTol = RATE_TOLERANCE * rateScale;
+    // The first event: kind 0 a weight reaches a bound, 1 a weight leaves its bound, 2 a group
+    // reaches a limit, 3 a group leaves its limit (no closures: this runs per candidate).
     let best = Infinity;
-    let event: (() => void) | undefined;
-    const offer = (dt: number, apply: () => void): void => {
+    let eventKind = -1;
+    let eventIndex = -1;
+    let eventSide: -1 | 1 = 1;
+    const offer = (dt: number, kind: number, index: number, side: -1 | 1): void => {
       if (dt < best) {
         best = dt;
-        event = apply;
+        eventKind = kind;
+        eventIndex = index;
+        eventSide = side;
       }
     };
     for (let j = 0; j < n; j++) {
@@ -225,17 +230,18 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
       if (st === 0) {
         const v = d[j];
         if (Math.abs(v) <= xTol) continue;
-        if (v < 0 && lower[j] > -Infinity) offer(Math.max(0, x[j] - lower[j]) / -v, () => hitBound(j, -1));
-        else if (v > 0 && upper[j] < Infinity) offer(Math.max(0, upper[j] - x[j]) / v, () => hitBound(j, 1));
+        if (v < 0 && lower[j] > -Infinity) offer(Math.max(0, x[j] - lower[j]) / -v, 0, j, -1);
+        else if (v > 0 && upper[j] < Infinity) offer(Math.max(0, upper[j] - x[j]) / v, 0, j, 1);
       } else {
         const v = dz[j];
         if (Math.abs(v) <= zTol) continue;
-        if (st === -1 && v < 0) offer(Math.max(0, z[j]) / -v, () => leaveBound(j));
-        else if (st === 1 && v > 0) offer(Math.max(0, -z[j]) / v, () => leaveBound(j));
+        if (st === -1 && v < 0) offer(Math.max(0, z[j]) / -v, 1, j, 1);
+        else if (st === 1 && v > 0) offer(Math.max(0, -z[j]) / v, 1, j, 1);
       }
     }
-    groups.forEach((g, k) => {
-      if (g.min === g.max) return;
+    for (let k = 0; k < groups.length; k++) {
+      const g = groups[k];
+      if (g.min === g.max) continue;
       if (groupState[k] === 0) {
         let rate = 0;
         let rateAbs = 0;
@@ -245,16 +251,16 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
           rateAbs += Math.abs(d[g.members[p]]);
           value += x[g.members[p]];
         }
-        if (Math.abs(rate) <= xTol + RATE_TOLERANCE * rateAbs) return;
-        if (rate < 0 && g.min > -Infinity) offer(Math.max(0, value - g.min) / -rate, () => reachLimit(k, -1));
-        else if (rate > 0 && g.max < Infinity) offer(Math.max(0, g.max - value) / rate, () => reachLimit(k, 1));
+        if (Math.abs(rate) <= xTol + RATE_TOLERANCE * rateAbs) continue;
+        if (rate < 0 && g.min > -Infinity) offer(Math.max(0, value - g.min) / -rate, 2, k, -1);
+        else if (rate > 0 && g.max < Infinity) offer(Math.max(0, g.max - value) / rate, 2, k, 1);
       } else {
         const v = dnu[k];
-        if (Math.abs(v) <= zTol) return;
-        if (groupState[k] === -1 && v < 0) offer(Math.max(0, nu[k]) / -v, () => leaveLimit(k));
-        else if (groupState[k] === 1 && v > 0) offer(Math.max(0, -nu[k]) / v, () => leaveLimit(k));
+        if (Math.abs(v) <= zTol) continue;
+        if (groupState[k] === -1 && v < 0) offer(Math.max(0, nu[k]) / -v, 3, k, 1);
+        else if (groupState[k] === 1 && v > 0) offer(Math.max(0, -nu[k]) / v, 3, k, 1);
       }
-    });
+    }
     const dt = Math.min(best, target - t);
     for (let j = 0; j < n; j++) {
       x[j] += dt * d[j];
@@ -262,8 +268,11 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
     }
     for (let k = 0; k < groups.length; k++) if (groupState[k] !== 0) nu[k] += dt * dnu[k];
     t += dt;
-    if (t >= target || !event) return x;
-    event();
+    if (t >= target || eventKind < 0) return x;
+    if (eventKind === 0) hitBound(eventIndex, eventSide);
+    else if (eventKind === 1) leaveBound(eventIndex);
+    else if (eventKind === 2) reachLimit(eventIndex, eventSide);
+    else leaveLimit(eventIndex);
   }
   return undefined;
 

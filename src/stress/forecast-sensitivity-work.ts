@@ -8,13 +8,17 @@ import { solveOps, usesMean, type WorkShape } from './work-estimate.js';
  * draws). Kept apart from the per-draw model so either can change without the other.
  *
  * Mean-variance (and Kelly's quadratic form): one factorisation of the reduced Hessian (counted
- * as one solve), then per asset one solve with the factor (N² dense, N·K factor) and one product
- * with H (N² dense, N·K factor); the turnover at ±1 standard error is linear on the base pattern
- * and needs a warm-started re-solve only where a breakpoint lies within one standard error —
- * counted here at its bound, two per asset.
+ * as one solve); per asset, one solve with that factor and one product with H for the shifts
+ * (each at most N² dense, N·K with a factor model, since |F| ≤ N), then the exact turnover at ±1
+ * standard error: PATH_SEGMENTS breakpoint segments each way, each one more solve with the base
+ * factor plus a product (forecast-sensitivity-path.ts). Measured on the bench problems: 3.4–3.8
+ * segments per direction on average; rare degenerate breakpoints fall back to a warm re-solve and
+ * are not counted.
  * Scenario Kelly: at most KELLY_SOLVES_PER_ASSET warm-started solves per asset (the bracketing
  * search's bound), each counted as one Kelly solve.
  */
+export const PATH_SEGMENTS = 4;
+
 export function forecastSensitivityOps(methods: readonly MethodSpec[], s: WorkShape): number {
   const n = s.n;
   let total = 0;
@@ -25,8 +29,8 @@ export function forecastSensitivityOps(methods: readonly MethodSpec[], s: WorkSh
       total += n * KELLY_SOLVES_PER_ASSET * solve;
       continue;
     }
-    const perAsset = s.factors > 0 ? 2 * n * s.factors : 2 * n * n;
-    total += solve + n * perAsset + 2 * n * solve;
+    const perSolve = s.factors > 0 ? n * s.factors : n * n;
+    total += solve + n * (3 + 2 * PATH_SEGMENTS * 3) * perSolve;
   }
   return total;
 }
