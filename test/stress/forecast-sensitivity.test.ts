@@ -4,7 +4,11 @@ import { meanVariance } from '../../src/optimize/mean-variance.js';
 import { PolicySchema, type ProposalInput } from '../../src/schema/proposal.js';
 import { OptimizeResponseSchema, ReportSchema, type ForecastSensitivity } from '../../src/schema/report.js';
 import { validateProposal } from '../../src/schema/validate.js';
+import { LIMITS } from '../../src/schema/limits.js';
+import { planStress } from '../../src/stress/engine.js';
 import { breakEvenFindings } from '../../src/stress/findings.js';
+import { forecastSensitivityTables } from '../../src/stress/forecast-sensitivity.js';
+import { forecastSensitivityOps } from '../../src/stress/forecast-sensitivity-work.js';
 import { buildConstraintSet } from '../../src/stress/problem.js';
 import { checkProposal, optimizeProposal, stressProposal } from '../../src/stress/run.js';
 import { BREAK_EVEN_CAP_STD_ERRS, judge } from '../../src/stress/verdict.js';
@@ -105,6 +109,21 @@ describe('methods[k].forecastSensitivity', () => {
     const free = judge(report, PolicySchema.parse({ rules: [{ metric: 'forecast-break-even-std-errs', method: 'minimum-variance', min: 3 }] }));
     expect(free.rules[0].value).toBe(BREAK_EVEN_CAP_STD_ERRS);
     expect(free.pass).toBe(true);
+  });
+});
+
+describe('the work of the table', () => {
+  it('is counted in meta.workUnits, and a table that would exceed the work limit is skipped with a warning', async () => {
+    const v = valid(capped({ resampling: { draws: 20, seed: 'fs' } }));
+    const plan = planStress(v.proposal, v.warnings);
+    const report = await stressProposal(v.proposal, v.warnings);
+    const shape = { n: 3, rows: 0, factors: 0, pca: false, scenarioKelly: false };
+    const expected = forecastSensitivityOps([plan.problem.methods[0]], shape) + forecastSensitivityOps([plan.problem.methods[2]], shape);
+    expect(report.meta.workUnits).toBe(Math.round(plan.workUnits + expected));
+    const full = forecastSensitivityTables(plan.problem, plan.base, plan.baseScenarios, LIMITS.maxWorkUnits - 1);
+    expect(full.tables.every((t) => t === undefined)).toBe(true);
+    expect(full.warnings.map((w) => w.code)).toEqual(['forecast-sensitivity-skipped', 'forecast-sensitivity-skipped']);
+    expect(full.workUnits).toBe(0);
   });
 });
 
