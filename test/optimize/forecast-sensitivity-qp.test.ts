@@ -139,6 +139,55 @@ describe('QpForecastSensitivity', () => {
     expect(Array.from(r.direction)).toEqual([0, 0, 0]);
   });
 
+  it('a singular covariance that is positive definite on the budget plane (augmented factorisation): ∂w/∂μ = P/(sγ), P = I − 11ᵀ/n', () => {
+    // Σ = s·(I − 11ᵀ/n) has the null vector 1, which the budget rules out: the optimum is unique and
+    // Z(ZᵀΣZ)⁻¹Zᵀ/γ = P/(sγ) (the REFERENCES.md sensitivity identity with Z spanning 1⊥).
+    const n = 3;
+    const sc = 0.01;
+    const cov = Float64Array.from({ length: n * n }, (_, k) => sc * ((Math.floor(k / n) === k % n ? 1 : 0) - 1 / n));
+    const model: DenseRiskModel = { kind: 'dense', n, cov };
+    const constraints: ConstraintSet = { n, lower: new Float64Array(n).fill(-Infinity), upper: new Float64Array(n).fill(Infinity), budget: 1, groups: [] };
+    const mean = Float64Array.of(0.01, 0.012, 0.008);
+    const result = meanVariance(model, mean, constraints, 4);
+    expect(result.solution.regularisation).toBe('augmented');
+    const sensitivity = new QpForecastSensitivity(meanVarianceProblem(model, mean, constraints, 4), result.solution);
+    for (let i = 0; i < n; i++) {
+      const d = sensitivity.shiftsOf(i).direction;
+      for (let j = 0; j < n; j++) expect(d[j]).toBeCloseTo(((i === j ? 1 : 0) - 1 / n) / (sc * 4), 9);
+    }
+  });
+
+  it('assets with equal bounds and equality groups never change state; shifting them changes nothing', () => {
+    const n = 4;
+    const cov = Float64Array.from({ length: n * n }, (_, k) => (Math.floor(k / n) === k % n ? 0.004 : 0.001));
+    const model: DenseRiskModel = { kind: 'dense', n, cov };
+    const constraints: ConstraintSet = {
+      n,
+      lower: Float64Array.of(0, 0.1, 0, 0),
+      upper: Float64Array.of(1, 0.1, 1, 1),
+      budget: 1,
+      groups: [{ name: 'pair', members: Int32Array.of(2, 3), min: 0.5, max: 0.5 }],
+    };
+    const mean = Float64Array.of(0.01, 0.02, 0.006, 0.012);
+    const result = meanVariance(model, mean, constraints, 4);
+    const problem = meanVarianceProblem(model, mean, constraints, 4);
+    const sensitivity = new QpForecastSensitivity(problem, result.solution);
+    expect(sensitivity.shiftsOf(1)).toMatchObject({ up: null, down: null });
+    for (let i = 0; i < n; i++) {
+      const r = sensitivity.shiftsOf(i);
+      for (const c of [...r.changesUp, ...r.changesDown]) expect(c.kind === 'group' || c.index !== 1).toBe(true);
+      for (const c of [...r.changesUp, ...r.changesDown]) expect(c.kind).toBe('asset');
+      // Past any breakpoint the followed path agrees with a fresh solve.
+      for (const t of [0.05, -0.05]) {
+        const linear = Float64Array.from(mean);
+        linear[i] += t;
+        const fresh = solveQp({ ...problem, linear }).x;
+        const ours = sensitivity.weightsAt(i, t, r);
+        for (let j = 0; j < n; j++) expect(Math.abs(ours[j] - fresh[j])).toBeLessThan(1e-9);
+      }
+    }
+  });
+
   it('refuses a non-unique optimum (zero risk along an allowed direction) instead of reporting shifts', () => {
     const n = 2;
     const model: DenseRiskModel = { kind: 'dense', n, cov: Float64Array.of(0.01, 0.01, 0.01, 0.01) };
