@@ -76,6 +76,41 @@ describe('methods[k].forecastSensitivity', () => {
     expect(checked).toBeGreaterThan(2);
   });
 
+  it('a supplied factor model with separate factor and specific risk aversion (EX4F, capped): every shift verified by re-solving just below and past it', async () => {
+    const fm = { factors: ['f1', 'f2'], loadings: [[1, 0.2], [0.9, -0.3], [1.1, 0.5], [0.8, 0]], factorCovariance: [[0.04, 0.002], [0.002, 0.01]], specificVariance: [0.01, 0.02, 0.015, 0.03] };
+    const v = valid({
+      assets: ['a', 'b', 'c', 'd'],
+      weights: [0.25, 0.25, 0.25, 0.25],
+      inputs: { mean: [0.06, 0.05, 0.07, 0.04], factorModel: fm, observations: 60, periodsPerYear: 1 },
+      method: { name: 'mean-variance', riskAversion: { factor: 4, specific: 10 } },
+      compare: [],
+      constraints: { longOnly: true, upper: 0.35 },
+    });
+    const r = await optimizeProposal(v.proposal, v.warnings);
+    const rows = r.methods[0].forecastSensitivity as ForecastSensitivity[];
+    const model = {
+      kind: 'factor' as const, n: 4, k: 2, factorNames: fm.factors,
+      loadings: Float64Array.from(fm.loadings.flat()), factorCov: Float64Array.from(fm.factorCovariance.flat()), specificVar: Float64Array.from(fm.specificVariance),
+    };
+    const constraints = buildConstraintSet(v.proposal);
+    const base = patternOf(constraints, Float64Array.from(r.methods[0].base.weights));
+    let checked = 0;
+    rows.forEach((row, i) => {
+      for (const [shift, sign] of [[row.shiftUp, 1], [row.shiftDown, -1]] as const) {
+        if (shift === null) continue;
+        const at = (f: number) => {
+          const mean = Float64Array.of(0.06, 0.05, 0.07, 0.04);
+          mean[i] += sign * f * shift;
+          return Array.from(patternOf(constraints, meanVariance(model, mean, constraints, { factor: 4, specific: 10 }).weights).assets);
+        };
+        expect(at(1 - 1e-4)).toEqual(Array.from(base.assets));
+        expect(at(1 + 1e-4)).not.toEqual(Array.from(base.assets));
+        checked++;
+      }
+    });
+    expect(checked).toBeGreaterThan(3);
+  });
+
   it('uses the views’ standard errors (annualised) where views are given', async () => {
     const v = valid(capped({ views: { mean: [0.006, 0.008, 0.01], stdErr: [0.001, 0.002, 0.003] } }));
     const r = await optimizeProposal(v.proposal, v.warnings);
