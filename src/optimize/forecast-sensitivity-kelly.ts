@@ -14,15 +14,20 @@ import { OptimizationError, type ConstraintSet } from './types.js';
  *    PATTERN_TOLERANCE) differs from the base one, at most DOUBLINGS probes (unit = the forecast's
  *    standard error, so the search reaches 2^(DOUBLINGS−3) standard errors; none found → null);
  * 2. bisection between the last unchanged and the first changed probe until the bracket is no
- *    wider than max(RELATIVE_TOLERANCE·t, ABSOLUTE_TOLERANCE·unit), at most BISECTIONS probes.
+ *    wider than max(RELATIVE_TOLERANCE·t, ABSOLUTE_TOLERANCE·unit): the doubling leaves a bracket
+ *    [0, unit/4] or [t/2, t], so BISECTIONS = 7 halvings always reach that width.
  * The reported shift is the bracket's midpoint and its tolerance the half-width. (A change that
  * reverts between two probes of the doubling would be missed; the Kelly optimum moves smoothly
  * in t, so in practice each change persists.)
  *
+ * An asset held at a lower bound of 0 needs no search downwards: its column does not touch wealth
+ * (w_i = 0), so every other gradient is unchanged and its own only falls — the optimum is exactly
+ * the same however far its mean drops (null, turnover 0).
+ *
  * Solves per asset are bounded: 2·(DOUBLINGS + BISECTIONS) + 2 (the turnover at ±1 unit).
  */
 export const DOUBLINGS = 13;
-export const BISECTIONS = 12;
+export const BISECTIONS = 7;
 export const RELATIVE_TOLERANCE = 0.01;
 export const ABSOLUTE_TOLERANCE = 0.005;
 /** Largest number of Kelly solves for one asset (the work model counts this bound). */
@@ -93,6 +98,9 @@ export class KellyForecastSensitivity {
 
   private search(i: number, unit: number, sign: 1 | -1): { shift: number | null; changes: BreakEven['changesUp']; bracketHalfWidth: number; turnoverAtUnit: number } {
     const base = this.base.weights;
+    if (sign < 0 && base[i] === 0 && this.constraints.lower[i] === 0) {
+      return { shift: null, changes: [], bracketHalfWidth: 0, turnoverAtUnit: 0 };
+    }
     let turnoverAtUnit = Number.NaN;
     const probe = (t: number): ActivePattern | undefined => {
       let w: Float64Array;
