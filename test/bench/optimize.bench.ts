@@ -13,7 +13,7 @@
  */
 import { createRequire } from 'node:module';
 import seedrandom from 'seedrandom';
-import type { DenseRiskModel } from '../../src/linalg/risk-model.js';
+import type { DenseRiskModel, RiskModel } from '../../src/linalg/risk-model.js';
 import { qpObjective } from '../../src/optimize/kkt.js';
 import { QpForecastSensitivity } from '../../src/optimize/forecast-sensitivity-qp.js';
 import { meanVariance, meanVarianceProblem } from '../../src/optimize/mean-variance.js';
@@ -202,13 +202,31 @@ for (const n of [10, 50, 200]) {
 // cold solve of the same problem, and the 2N warm solves a finite-difference table would need.
 {
   console.log('\nbreak-even forecast table (mean-variance, caps + group, risk aversion 5), against one solve of the same problem');
-  console.log('    N | one cold solve | table: shifts | + turnover ±1 se (re-solves) | shifts ÷ solve | all ÷ solve | 2N warm solves ÷ solve');
-  for (const n of [10, 50, 200]) {
+  console.log('        N | one cold solve | table: shifts | + turnover ±1 se (re-solves) | shifts ÷ solve | all ÷ solve | 2N warm solves ÷ solve');
+  const cases: { n: number; factors: number }[] = [
+    { n: 10, factors: 0 },
+    { n: 50, factors: 0 },
+    { n: 200, factors: 0 },
+    { n: 200, factors: 5 },
+  ];
+  for (const { n, factors } of cases) {
     const t = Math.max(60, 2 * n);
     const r = history(n, t);
     const base = moments(r, n, Int32Array.from({ length: t }, (_, s) => s));
     const constraints = constraintsFor(n);
-    const model: DenseRiskModel = { kind: 'dense', n, cov: base.cov };
+    // Factor case: an invented K-factor model with the history's variances (loadings seeded).
+    const model: RiskModel =
+      factors === 0
+        ? { kind: 'dense', n, cov: base.cov }
+        : {
+            kind: 'factor',
+            n,
+            k: factors,
+            factorNames: Array.from({ length: factors }, (_, a) => `f${a}`),
+            loadings: Float64Array.from({ length: n * factors }, () => 0.03 * normal()),
+            factorCov: Float64Array.from({ length: factors * factors }, (_, a) => (Math.floor(a / factors) === a % factors ? 1 : 0)),
+            specificVar: Float64Array.from({ length: n }, (_, i) => 0.5 * base.cov[i * n + i]),
+          };
     const problem = meanVarianceProblem(model, base.mean, constraints, 5);
     const workspace = new QpWorkspace(n, 1);
     let solution = meanVariance(model, base.mean, constraints, 5, { workspace }).solution;
@@ -241,7 +259,7 @@ for (const n of [10, 50, 200]) {
       }
     });
     console.log(
-      `${String(n).padStart(5)} | ${fmt(solve).padStart(14)} | ${fmt(shifts).padStart(13)} | ${`${fmt(all)} (${resolves})`.padStart(28)} | ` +
+      `${`${n}${factors ? ` K=${factors}` : ''}`.padStart(9)} | ${fmt(solve).padStart(14)} | ${fmt(shifts).padStart(13)} | ${`${fmt(all)} (${resolves})`.padStart(28)} | ` +
         `${(shifts / solve).toFixed(2).padStart(14)} | ${(all / solve).toFixed(2).padStart(11)} | ${(fd / solve).toFixed(2).padStart(22)}`,
     );
   }
