@@ -89,6 +89,9 @@ export class QpForecastSensitivity {
     this.n = n;
     this.problem = problem;
     this.solution = solution;
+    if (!solution.converged) {
+      throw new QpSensitivityUnavailable('the base optimum did not converge, so its active pattern is not reliable');
+    }
     if (solution.regularisation === 'ridge') {
       throw new QpSensitivityUnavailable('the risk model has no risk along some allowed direction, so the optimum is not unique and has no break-even shifts');
     }

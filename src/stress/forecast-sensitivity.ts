@@ -131,6 +131,7 @@ function kellyTable(
   scenarioCount: number,
   stdErr: Float64Array,
 ): ForecastSensitivity[] {
+  if (!result.diagnostics.converged) throw new QpSensitivityUnavailable('the base Kelly optimum did not converge, so its active pattern is not reliable');
   const search = new KellyForecastSensitivity(scenarios, scenarioCount, problem.constraints, spec.fraction ?? 1, result);
   const p = problem.periodsPerYear;
   return problem.assets.map((asset, i) => {
