@@ -1,6 +1,7 @@
 import { LuDecomposition, Matrix } from 'ml-matrix';
 import type { QpForecastSensitivity } from './forecast-sensitivity-qp.js';
 import { RATE_TOLERANCE } from './forecast-sensitivity-qp.js';
+import { kktResidual } from './kkt.js';
 
 /**
  * The exact optimum of the QP with c_i moved by a shift, by following the piecewise-linear path
@@ -21,6 +22,8 @@ import { RATE_TOLERANCE } from './forecast-sensitivity-qp.js';
  * a singular G at a degenerate breakpoint): the caller then re-solves the QP warm-started.
  */
 export const MAX_CHANGES = 40;
+/** Largest scaled KKT residual (kkt.ts) accepted at the end of a followed path. */
+export const PATH_KKT_TOLERANCE = 1e-9;
 
 type Border =
   | { readonly kind: 'fix'; readonly j: number }
@@ -54,6 +57,7 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
   const groupState = Int8Array.from(s.groupState);
   const z = Float64Array.from(solution.multipliers.bounds);
   const nu = Float64Array.from(solution.multipliers.groups);
+  let nuBudget = solution.multipliers.budget;
   const baseFree = Uint8Array.from(s.assetState, (v) => (v === 0 ? 1 : 0));
   for (let j = 0; j < n; j++) if (lower[j] === upper[j]) baseFree[j] = 0;
 
@@ -267,14 +271,27 @@ export function followPath(s: QpForecastSensitivity, i: number, shift: number): 
       if (assetState[j] !== 0) z[j] += dt * dz[j];
     }
     for (let k = 0; k < groups.length; k++) if (groupState[k] !== 0) nu[k] += dt * dnu[k];
+    nuBudget += dt * budgetRate;
     t += dt;
-    if (t >= target || eventKind < 0) return x;
+    if (t >= target || eventKind < 0) return verified();
     if (eventKind === 0) hitBound(eventIndex, eventSide);
     else if (eventKind === 1) leaveBound(eventIndex);
     else if (eventKind === 2) reachLimit(eventIndex, eventSide);
     else leaveLimit(eventIndex);
   }
   return undefined;
+
+  /**
+   * The end point, judged by its own diagnostics: the KKT residual of the shifted problem at x with
+   * the multipliers carried along the path (kkt.ts). A near-singular bordered system at a degenerate
+   * breakpoint would show here; the caller then re-solves.
+   */
+  function verified(): Float64Array | undefined {
+    const linear = Float64Array.from(problem.linear);
+    linear[i] += shift;
+    const residual = kktResidual({ ...problem, linear }, x, { budget: nuBudget, groups: nu, bounds: z });
+    return residual <= PATH_KKT_TOLERANCE ? x : undefined;
+  }
 
   function hitBound(j: number, side: -1 | 1): void {
     assetState[j] = side;
