@@ -18,8 +18,10 @@ import { kktResidual } from './kkt.js';
  * solved as G w = ρ − CᵀK⁻¹r, v = K⁻¹r − K⁻¹C w with G = D − CᵀK⁻¹C (q×q, q = changes so far).
  * Each change costs one solve with the base factor; undoing a change drops its border.
  *
- * Returns undefined when the path cannot be followed this way (more than MAX_CHANGES changes, or
- * a singular G at a degenerate breakpoint): the caller then re-solves the QP warm-started.
+ * Returns undefined when the path cannot be followed this way (more than MAX_CHANGES changes, a
+ * singular G at a degenerate breakpoint, or an end point whose KKT residual with the multipliers
+ * carried along the path exceeds PATH_KKT_TOLERANCE): the caller then re-solves the QP
+ * warm-started.
  */
 export const MAX_CHANGES = 40;
 /** Largest scaled KKT residual (kkt.ts) accepted at the end of a followed path. */
