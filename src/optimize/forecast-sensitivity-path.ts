@@ -1,6 +1,6 @@
 import { LuDecomposition, Matrix } from 'ml-matrix';
+import { RATE_TOLERANCE } from './forecast-sensitivity.js';
 import type { QpForecastSensitivity } from './forecast-sensitivity-qp.js';
-import { RATE_TOLERANCE } from './forecast-sensitivity-qp.js';
 import { kktResidual } from './kkt.js';
 
 /**

@@ -1,5 +1,5 @@
 import { choleskyDecompose, choleskySolveInPlace } from '../linalg/dense.js';
-import type { BreakEven, PatternChangeAt, PatternState } from './forecast-sensitivity.js';
+import { RATE_TOLERANCE, type BreakEven, type PatternChangeAt, type PatternState } from './forecast-sensitivity.js';
 import { followPath } from './forecast-sensitivity-path.js';
 import { buildReducedHessian, QpWorkspace, solveQp } from './qp.js';
 import type { ReducedHessian } from './qp-hessian.js';
@@ -36,7 +36,6 @@ import type { QpProblem, QpSolution } from './qp-types.js';
  *
  * Rates below RATE_TOLERANCE of their scale are rounding of an exact zero and never block.
  */
-export const RATE_TOLERANCE = 1e-10;
 
 /** Per-asset result: the breakpoints and the direction of the optimum on the base pattern. */
 export interface QpShiftResult extends BreakEven {

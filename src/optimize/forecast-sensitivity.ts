@@ -78,6 +78,9 @@ export function patternDifferences(before: ActivePattern, after: ActivePattern):
   return out;
 }
 
+/** Rates of change below this fraction of their scale are rounding of an exact zero (parametric steps). */
+export const RATE_TOLERANCE = 1e-10;
+
 /** One-way turnover ½Σ|a_i − b_i| (CONTRACT.md). */
 export function oneWayTurnover(a: Float64Array, b: Float64Array): number {
   let s = 0;
