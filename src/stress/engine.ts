@@ -69,6 +69,8 @@ export interface StressPlan {
   /** Base scenario rows (history moved to the base mean), for scenario Kelly. */
   readonly baseScenarios?: Float64Array;
   readonly workUnits: number;
+  /** The work limit in force for this request (the built-in one, or lower on a deployment). */
+  readonly maxWorkUnits: number;
   readonly warnings: Warning[];
 }
 
@@ -198,6 +200,7 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
     parametric,
     baseScenarios,
     workUnits,
+    maxWorkUnits: effectiveMaxWorkUnits(overrides.limits),
     warnings: planWarnings,
   };
 }

@@ -228,6 +228,17 @@ describe('WOBBLE_MAX_WORK', () => {
     expect(check.status).toBe(413);
   });
 
+  it('also bounds the break-even forecast shifts: just under the full count, they are skipped with a warning, not refused', async () => {
+    const body = momentsProposal({ resampling: { draws: 50, seed: 2 } });
+    const full = (await (await post('/v1/stress', body)).json()) as { meta: { workUnits: number }; warnings: { code: string }[] };
+    expect(full.warnings.map((w) => w.code)).not.toContain('forecast-sensitivity-skipped');
+    const res = await post('/v1/stress', body, { WOBBLE_MAX_WORK: String(full.meta.workUnits - 1) });
+    expect(res.status).toBe(200);
+    const lowered = (await res.json()) as { meta: { workUnits: number }; warnings: { code: string }[] };
+    expect(lowered.warnings.map((w) => w.code)).toContain('forecast-sensitivity-skipped');
+    expect(lowered.meta.workUnits).toBeLessThan(full.meta.workUnits);
+  });
+
   it('never raises the built-in limit, and a value that is not a positive number fails closed', async () => {
     const over = momentsProposal({ resampling: { draws: LIMITS.maxDraws + 1, seed: 1 } });
     expect((await post('/v1/stress', over, { WOBBLE_MAX_WORK: '1e30' })).status).toBe(413);
