@@ -541,6 +541,11 @@ export class ActiveSetEngine {
     }
     const n = this.problem.n;
     for (let i = 0; i < n; i++) if (this.pos[i] < 0) p[i] = 0;
+    // As many independent active rows as free variables: the face is a single point (a vertex),
+    // so the exact step is zero. Whatever the solves left is rounding, and following it only
+    // lets a dependent row or bound "block" at α = 0 again and again (seen with many
+    // overlapping group rows). The multipliers ν above are exact for the vertex.
+    if (m >= nf) for (let j = 0; j < nf; j++) p[free[j]] = 0;
   }
 
   // ---------------------------------------------------------------------------------------------
