@@ -38,7 +38,7 @@ export function createApp(): Hono {
   app.post('/v1/optimize', async (c) => {
     const body = await readJsonBody(c.req.raw);
     if (!body.ok) return bodyProblem(body);
-    const validation = validateProposal(body.value);
+    const validation = validateProposal(body.value, { job: 'optimize' });
     if (!validation.ok) return invalid(validation.problems);
     return respond(async () => c.json(await optimizeProposal(validation.proposal, validation.warnings, clock)));
   });
@@ -48,7 +48,7 @@ export function createApp(): Hono {
     if (!['json', 'html', 'markdown'].includes(format)) return problemResponse(400, `unknown format "${format}"; expected json, html or markdown`);
     const body = await readJsonBody(c.req.raw);
     if (!body.ok) return bodyProblem(body);
-    const validation = validateProposal(body.value);
+    const validation = validateProposal(body.value, { job: 'stress' });
     if (!validation.ok) return invalid(validation.problems);
     return respond(async () => {
       const report = await stressProposal(validation.proposal, validation.warnings, { clock });
@@ -63,7 +63,7 @@ export function createApp(): Hono {
     if (!body.ok) return bodyProblem(body);
     const envelope = CheckRequestSchema.safeParse(body.value);
     if (!envelope.success) return invalid(problemsFromZod(envelope.error.issues));
-    const validation = validateProposal(envelope.data.proposal);
+    const validation = validateProposal(envelope.data.proposal, { job: 'check' });
     if (!validation.ok) return invalid(validation.problems.map((p) => prefixProblem(p, 'proposal')));
     const policy = envelope.data.policy ?? validation.proposal.policy;
     if (!policy) return invalid([problem(['policy'], 'required field missing: a policy here or in proposal.policy')]);

@@ -1,8 +1,11 @@
-import { TOLERANCES } from './limits.js';
+import { LIMITS, TOLERANCES } from './limits.js';
 import { expandBound } from './bounds.js';
 import { checkPsd, checkShape, checkSymmetric } from './matrix-checks.js';
 import { problem, problemsFromZod, type Problem } from './problems.js';
 import { ProposalSchema, type MethodSpec, type Proposal } from './proposal.js';
+import { priceRequest, type CostOptions } from '../cost/check.js';
+import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
+import { methodList } from '../stress/problem.js';
 
 export interface Warning {
   readonly code: string;
@@ -13,11 +16,20 @@ export type Validation =
   | { readonly ok: true; readonly proposal: Proposal; readonly warnings: Warning[] }
   | { readonly ok: false; readonly problems: Problem[] };
 
+/** What the validated proposal is for, so it can be priced before the costly checks. */
+export interface ValidationContext extends CostOptions {
+  /** The job the proposal will run (default 'validate': only validation itself is priced). */
+  readonly job?: Job;
+  /** Draws overriding the proposal's own (CLI --draws). */
+  readonly draws?: number;
+}
+
 /**
- * Validates a parsed JSON body: shape with zod, then every semantic rule, collecting all
- * problems at once.
+ * Validates a parsed JSON body: shape with zod, then every cheap semantic rule, collecting all
+ * problems at once; then prices the request for `context.job` (413 problems when over a limit)
+ * before the costly matrix checks (positive semi-definiteness), which run only when it fits.
  */
-export function validateProposal(body: unknown): Validation {
+export function validateProposal(body: unknown, context: ValidationContext = {}): Validation {
   const parsed = ProposalSchema.safeParse(body);
   if (!parsed.success) {
     return { ok: false, problems: problemsFromZod(parsed.error.issues) };
@@ -27,9 +39,10 @@ export function validateProposal(body: unknown): Validation {
   const warnings: Warning[] = [];
   const n = proposal.assets.length;
 
+  const costly: (() => void)[] = [];
   checkAssets(proposal, problems);
   checkLength(proposal.weights, n, ['weights'], 'weights', problems);
-  checkInputs(proposal, problems, warnings);
+  checkInputs(proposal, problems, warnings, costly);
   checkViews(proposal, problems);
   for (const [i, spec] of [proposal.method, ...(proposal.compare ?? [])].entries()) {
     checkMethod(spec, proposal, i === 0 ? ['method'] : ['compare', i - 1], problems);
@@ -37,6 +50,15 @@ export function validateProposal(body: unknown): Validation {
   checkConstraints(proposal, problems, warnings);
   checkWeights(proposal, problems, warnings);
   checkResampling(proposal, problems);
+
+  const job = context.job ?? 'validate';
+  const draws = context.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
+  const price = priceRequest(job, requestShape(proposal, methodList(proposal), draws), context);
+  if (price.over) {
+    problems.push(problem([], price.over.message, 'limit'));
+    return { ok: false, problems };
+  }
+  for (const check of costly) check();
 
   if (problems.length > 0) return { ok: false, problems };
   return { ok: true, proposal, warnings };
@@ -57,8 +79,11 @@ function checkAssets(p: Proposal, out: Problem[]): void {
   });
 }
 
-/** Checks the inputs; a covariance that needs the opted-in repair gets a warning here and is repaired in prepareProblem. */
-function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefined {
+/**
+ * Checks the inputs; a covariance that needs the opted-in repair gets a warning here and is
+ * repaired in prepareProblem. The PSD tests go to `costly`, run after the request is priced.
+ */
+function checkInputs(p: Proposal, out: Problem[], warnings: Warning[], costly: (() => void)[]): undefined {
   const n = p.assets.length;
   const inputs = p.inputs;
   const estimation = p.estimation;
@@ -101,21 +126,25 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefine
   if ('covariance' in inputs) {
     if (!checkShape(inputs.covariance, n, n, ['inputs', 'covariance'], 'covariance (N×N)', out)) return undefined;
     if (!checkSymmetric(inputs.covariance, ['inputs', 'covariance'], out)) return undefined;
-    const psd = checkPsd(inputs.covariance);
-    if (psd.psd) return undefined;
-    if (estimation?.repairCovariance) {
-      warnings.push({
-        code: 'covariance-repaired',
-        message: `The covariance was not positive semi-definite (smallest eigenvalue ${psd.smallestEigenvalue?.toExponential(3)}); it was replaced by the nearest PSD matrix (eigenvalues clipped at 0) as requested.`,
-      });
-      return undefined;
-    }
-    out.push(
-      problem(
-        ['inputs', 'covariance'],
-        `covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6)}; fix it, or set estimation.repairCovariance: true to use the nearest PSD matrix`,
-      ),
-    );
+    const covariance = inputs.covariance;
+    costly.push(() => {
+      const psd = checkPsd(covariance);
+      if (psd.psd) return;
+      const smallest = psd.smallestEigenvalue === undefined ? `below −${psd.threshold.toExponential(3)}` : `${psd.smallestEigenvalue.toExponential(6)}`;
+      if (estimation?.repairCovariance) {
+        warnings.push({
+          code: 'covariance-repaired',
+          message: `The covariance was not positive semi-definite (smallest eigenvalue ${smallest}); it was replaced by the nearest PSD matrix (eigenvalues clipped at 0) as requested.`,
+        });
+        return;
+      }
+      out.push(
+        problem(
+          ['inputs', 'covariance'],
+          `covariance must be positive semi-definite: smallest eigenvalue is ${smallest}; fix it, or set estimation.repairCovariance: true to use the nearest PSD matrix`,
+        ),
+      );
+    });
     return undefined;
   }
   const fm = inputs.factorModel;
@@ -128,7 +157,7 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefine
   });
   if (checkShape(fm.factorCovariance, k, k, ['inputs', 'factorModel', 'factorCovariance'], 'factor covariance (K×K)', out) && checkSymmetric(fm.factorCovariance, ['inputs', 'factorModel', 'factorCovariance'], out)) {
     const psd = checkPsd(fm.factorCovariance);
-    if (!psd.psd) out.push(problem(['inputs', 'factorModel', 'factorCovariance'], `factor covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6)}`));
+    if (!psd.psd) out.push(problem(['inputs', 'factorModel', 'factorCovariance'], `factor covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6) ?? `below −${psd.threshold.toExponential(3)}`}`));
   }
   return undefined;
 }
@@ -196,16 +225,25 @@ function checkConstraints(p: Proposal, out: Problem[], warnings: Warning[]): voi
   if (sumUpper < c.budget - TOLERANCES.budget) out.push(problem(['constraints', 'upper'], `infeasible: upper bounds sum to ${round(sumUpper)}, below the budget ${c.budget}`, 'unsolvable'));
   const index = new Map(p.assets.map((a, i) => [a, i] as const));
   const names = new Set<string>();
+  const memberships = (c.groups ?? []).reduce((total, g) => total + g.assets.length, 0);
+  if (memberships > LIMITS.maxGroupMemberships) {
+    out.push(problem(['constraints', 'groups'], `the groups list ${memberships} members in total, over the limit of ${LIMITS.maxGroupMemberships} (maxGroupMemberships)`, 'limit'));
+    return;
+  }
   (c.groups ?? []).forEach((g, gi) => {
     const path = ['constraints', 'groups', gi];
     if (names.has(g.name)) out.push(problem([...path, 'name'], `group names must be unique: "${g.name}" appears twice`));
     names.add(g.name);
     let gLower = 0;
     let gUpper = 0;
+    const listed = new Map<string, number>();
     g.assets.forEach((a, ai) => {
       const i = index.get(a);
+      const first = listed.get(a);
       if (i === undefined) out.push(problem([...path, 'assets', ai], `unknown asset "${a}" (not in assets)`));
+      else if (first !== undefined) out.push(problem([...path, 'assets', ai], `a group lists each asset once: "${a}" is already at assets[${first}] of this group`));
       else {
+        listed.set(a, ai);
         gLower += lower[i];
         gUpper += upper[i];
       }
