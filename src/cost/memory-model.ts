@@ -59,6 +59,13 @@ export function memoryBreakdown(job: Job, s: RequestShape): MemoryBreakdown {
   const n = s.n;
   const nn = n * n * DOUBLE;
   const inputs = BYTES_PER_INPUT_NUMBER * s.inputNumbers;
+  // Validation's PSD test holds the matrix and a factor (and, for a small non-PSD one, an
+  // eigendecomposition); it is over before the run's own matrices exist.
+  const validationMatrices = s.inputKind === 'dense-moments' ? nn * (2 + (n <= EXACT_EIGENVALUE_MAX_N ? 5 : 0)) : 0;
+  if (job === 'validate') {
+    const total = FIXED_BYTES + inputs + validationMatrices;
+    return { inputs, matrices: validationMatrices, groups: 0, stored: 0, response: 0, total };
+  }
   const qpMethods = s.methods.filter((m) => m.name === 'mean-variance' || m.name === 'minimum-variance' || m.name === 'kelly').length + 1;
   let matrices = 0;
   if (isDense(s)) {
@@ -68,9 +75,9 @@ export function memoryBreakdown(job: Job, s: RequestShape): MemoryBreakdown {
   } else {
     matrices += n * (s.factors + 2) * DOUBLE * (4 + 2 * qpMethods) + s.factors * s.factors * DOUBLE * 8;
   }
-  // An eigendecomposition (repair, PCA, or the exact eigenvalue of a small non-PSD matrix) keeps ~5 N×N copies.
-  const eigen = s.repair || s.factorModel === 'pca' || (s.inputKind === 'dense-moments' && n <= EXACT_EIGENVALUE_MAX_N);
-  if (eigen) matrices += 5 * nn;
+  // An eigendecomposition (repair, PCA) keeps ~5 N×N copies while it runs.
+  if (s.repair || s.factorModel === 'pca') matrices += 5 * nn;
+  matrices = Math.max(matrices, validationMatrices);
   if (s.inputKind === 'history') {
     // The history as a typed array, its row-major copy, and for scenario Kelly three channel scenario sets and the base.
     matrices += s.rows * n * DOUBLE * (2 + (s.scenarioKelly ? 4 : 0));
