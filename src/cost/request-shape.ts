@@ -29,6 +29,13 @@ export interface RequestShape {
   readonly methods: readonly MethodSpec[];
   readonly draws: number;
   readonly scheme: 'stationary-bootstrap' | 'iid-bootstrap' | 'parametric';
+  /**
+   * The dense covariance is (or may be) singular: a sample or EWMA estimate from no more rows than
+   * assets, a repaired matrix (eigenvalues clipped at 0), or a supplied one that has no Cholesky
+   * factor (found by validation's PSD test). Active-set solves then run on a ridge and can take up
+   * to their iteration cap, which the work model charges.
+   */
+  readonly singular: boolean;
   /** Kelly maximises expected log growth over the history's scenarios (not the quadratic approximation). */
   readonly scenarioKelly: boolean;
 }
@@ -37,7 +44,7 @@ export interface RequestShape {
 export const DEFAULT_DRAWS = 500;
 
 /** Counts the request's shape. `methods` is the deduplicated list (problem.ts methodList). */
-export function requestShape(proposal: Proposal, methods: readonly MethodSpec[], drawsOverride?: number): RequestShape {
+export function requestShape(proposal: Proposal, methods: readonly MethodSpec[], drawsOverride?: number, knownSingular = false): RequestShape {
   const inputs = proposal.inputs;
   const n = proposal.assets.length;
   const history = 'returns' in inputs;
@@ -79,5 +86,9 @@ export function requestShape(proposal: Proposal, methods: readonly MethodSpec[],
     draws: drawsOverride ?? proposal.resampling?.draws ?? DEFAULT_DRAWS,
     scheme,
     scenarioKelly: history && scheme !== 'parametric' && methods.some((m) => m.name === 'kelly'),
+    singular:
+      knownSingular ||
+      ('covariance' in inputs && (estimation?.repairCovariance ?? false)) ||
+      (history && factorModel === 'none' && ['sample', 'ewma'].includes(estimation?.covariance ?? 'sample') && inputs.returns.length <= n),
   };
 }

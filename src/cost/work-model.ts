@@ -26,7 +26,13 @@ export const POWER_ITERATIONS = 30;
  * group row (M memberships) and updating up to min(G, N) explicit rows against N free variables.
  * Fitted on the slowest overlapping-group shapes measured (DEVELOPERS.md).
  */
-export const GROUP_UNITS_FACTOR = 64;
+export const GROUP_UNITS_FACTOR = 170;
+/**
+ * A dense active-set solve on a singular covariance runs on a ridge and may use its whole
+ * iteration budget, max(200, 10·(N + G)) iterations of ~8·N² each (measured: N = 600, rank 2,
+ * 6000 iterations in ~1.5e10 units' time).
+ */
+export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 8;
 
 export const usesMean = (spec: MethodSpec): boolean => spec.name === 'mean-variance' || spec.name === 'kelly';
 
@@ -76,7 +82,8 @@ export function solveUnits(spec: MethodSpec, s: RequestShape): number {
   const dense = s.inputKind !== 'factor-moments' && !(s.inputKind === 'history' && s.factorModel !== 'none');
   // Factor QPs: Woodbury updates cost O(N·K²) per active-set change, and warm starts still make a
   // few dozen changes at large N (measured: ~3× the dense rate per counted operation at N = 2000, K = 8).
-  const qp = (dense ? cube(n) / 3 + 20 * n * n : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s);
+  const singularIterations = s.singular ? Math.max(200, 10 * (n + s.groups)) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * n * n : 0;
+  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularIterations : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s);
   switch (spec.name) {
     case 'mean-variance':
     case 'minimum-variance':

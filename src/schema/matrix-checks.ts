@@ -50,6 +50,8 @@ export function checkSymmetric(m: readonly (readonly number[])[], path: PathPart
 
 export interface PsdCheck {
   readonly psd: boolean;
+  /** Σ itself has a Cholesky factor (positive definite); false for a singular or indefinite matrix. */
+  readonly positiveDefinite: boolean;
   /** δ: the matrix counts as PSD when Σ + δI is positive definite (δ = TOLERANCES.psd·max(1, λ₁ estimate)). */
   readonly threshold: number;
   /** Exact smallest eigenvalue: only for a matrix that is not PSD and has at most EXACT_EIGENVALUE_MAX_N rows. */
@@ -73,13 +75,13 @@ export function checkPsd(m: readonly (readonly number[])[]): PsdCheck {
   scratch.set(a);
   const largest = largestEigenvalueEstimate(a, n);
   const threshold = TOLERANCES.psd * Math.max(1, Math.abs(largest));
-  if (choleskyDecompose(scratch, n) < 0) return { psd: true, threshold };
+  if (choleskyDecompose(scratch, n) < 0) return { psd: true, positiveDefinite: true, threshold };
   scratch.set(a);
   for (let i = 0; i < n; i++) scratch[i * n + i] += threshold;
-  if (choleskyDecompose(scratch, n) < 0) return { psd: true, threshold };
-  if (n > EXACT_EIGENVALUE_MAX_N) return { psd: false, threshold };
+  if (choleskyDecompose(scratch, n) < 0) return { psd: true, positiveDefinite: false, threshold };
+  if (n > EXACT_EIGENVALUE_MAX_N) return { psd: false, positiveDefinite: false, threshold };
   const values = symmetricEigenDecomposition(a, n).values;
-  return { psd: false, threshold, smallestEigenvalue: values[n - 1] };
+  return { psd: false, positiveDefinite: false, threshold, smallestEigenvalue: values[n - 1] };
 }
 
 /** A lower estimate of the largest eigenvalue of a symmetric matrix: POWER_ITERATIONS steps from the all-ones vector. */

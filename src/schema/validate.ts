@@ -30,6 +30,8 @@ export interface ValidationContext extends CostOptions {
  * before the costly matrix checks (positive semi-definiteness), which run only when it fits.
  */
 export function validateProposal(body: unknown, context: ValidationContext = {}): Validation {
+  const early = preflight(body, context);
+  if (early) return { ok: false, problems: [early] };
   const parsed = ProposalSchema.safeParse(body);
   if (!parsed.success) {
     return { ok: false, problems: problemsFromZod(parsed.error.issues) };
@@ -42,7 +44,8 @@ export function validateProposal(body: unknown, context: ValidationContext = {})
   const costly: (() => void)[] = [];
   checkAssets(proposal, problems);
   checkLength(proposal.weights, n, ['weights'], 'weights', problems);
-  checkInputs(proposal, problems, warnings, costly);
+  const singular = { found: false };
+  checkInputs(proposal, problems, warnings, costly, singular);
   checkViews(proposal, problems);
   for (const [i, spec] of [proposal.method, ...(proposal.compare ?? [])].entries()) {
     checkMethod(spec, proposal, i === 0 ? ['method'] : ['compare', i - 1], problems);
@@ -59,9 +62,42 @@ export function validateProposal(body: unknown, context: ValidationContext = {})
     return { ok: false, problems };
   }
   for (const check of costly) check();
+  if (singular.found && problems.length === 0) {
+    // A singular covariance makes every dense solve slower (see work-model.ts): price it again.
+    const again = priceRequest(job, requestShape(proposal, methodList(proposal), draws, true), context);
+    if (again.over) return { ok: false, problems: [problem(['inputs', 'covariance'], `the covariance is singular, which makes each solve costlier: ${again.over.message}`, 'limit')] };
+  }
 
   if (problems.length > 0) return { ok: false, problems };
   return { ok: true, proposal, warnings };
+}
+
+/**
+ * Prices the raw body from its array lengths before the schema walks every number (zod takes
+ * seconds on millions of numbers): a request whose shape is already over a limit is refused in
+ * milliseconds. Only when the body looks like a proposal; anything odd is left to the schema.
+ */
+function preflight(body: unknown, context: ValidationContext): Problem | undefined {
+  if (!isRecord(body) || !Array.isArray(body.assets) || !isRecord(body.inputs) || !isRecord(body.method) || typeof body.method.name !== 'string') return undefined;
+  if (!Array.isArray(body.weights) || (body.compare !== undefined && !Array.isArray(body.compare))) return undefined;
+  if (!body.assets.every((a) => typeof a === 'string')) return undefined;
+  const inputs = body.inputs;
+  const matrixOk = (m: unknown): boolean => Array.isArray(m) && m.every((row) => Array.isArray(row));
+  if ('returns' in inputs ? !matrixOk(inputs.returns) : 'covariance' in inputs ? !matrixOk(inputs.covariance) || !Array.isArray(inputs.mean) : true) return undefined;
+  const constraints = body.constraints;
+  if (constraints !== undefined && (!isRecord(constraints) || (constraints.groups !== undefined && !(Array.isArray(constraints.groups) && constraints.groups.every((g) => isRecord(g) && Array.isArray(g.assets)))))) return undefined;
+  const draws = context.draws ?? (isRecord(body.resampling) && Number.isInteger(body.resampling.draws) ? (body.resampling.draws as number) : DEFAULT_DRAWS);
+  try {
+    const proposal = body as unknown as Proposal;
+    const price = priceRequest(context.job ?? 'validate', requestShape(proposal, methodList(proposal), draws), context);
+    return price.over ? problem([], price.over.message, 'limit') : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
+function isRecord(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 
 function checkLength(v: readonly unknown[], n: number, path: (string | number)[], what: string, out: Problem[]): boolean {
@@ -83,7 +119,7 @@ function checkAssets(p: Proposal, out: Problem[]): void {
  * Checks the inputs; a covariance that needs the opted-in repair gets a warning here and is
  * repaired in prepareProblem. The PSD tests go to `costly`, run after the request is priced.
  */
-function checkInputs(p: Proposal, out: Problem[], warnings: Warning[], costly: (() => void)[]): undefined {
+function checkInputs(p: Proposal, out: Problem[], warnings: Warning[], costly: (() => void)[], singular: { found: boolean }): undefined {
   const n = p.assets.length;
   const inputs = p.inputs;
   const estimation = p.estimation;
@@ -129,6 +165,7 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[], costly: (
     const covariance = inputs.covariance;
     costly.push(() => {
       const psd = checkPsd(covariance);
+      if (!psd.positiveDefinite) singular.found = true;
       if (psd.psd) return;
       const smallest = psd.smallestEigenvalue === undefined ? `below −${psd.threshold.toExponential(3)}` : `${psd.smallestEigenvalue.toExponential(6)}`;
       if (estimation?.repairCovariance) {

@@ -5,7 +5,7 @@
  */
 import { priceRequest } from '../../src/cost/check.js';
 import { requestShape, type Job } from '../../src/cost/request-shape.js';
-import { ProposalSchema, type ProposalInput } from '../../src/schema/proposal.js';
+import type { Proposal, ProposalInput } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
 import { methodList } from '../../src/stress/problem.js';
 
@@ -71,17 +71,25 @@ function maxDraws(job: Job, body: ProposalInput, baseline: ProposalInput | undef
   return lo;
 }
 
-/** Whether a request of this shape fits every limit (priced from the parsed JSON alone; no matrix check runs). */
+/**
+ * Whether a request of this shape fits every limit, priced from its array lengths alone (the
+ * probe is used as the parsed proposal: requestShape reads only lengths and settings).
+ */
 function fits(job: Job, body: ProposalInput): boolean {
-  const p = ProposalSchema.parse(body);
+  const p = body as Proposal;
   return !priceRequest(job, requestShape(p, methodList(p))).over;
 }
 
-/** Largest N (a multiple of `step`, ≤ 2000) whose request, built cheaply by `probe`, fits. */
+/** Largest N (a multiple of `step`, ≤ 2000) whose request, built cheaply by `probe`, fits (bisection). */
 function largestN(job: Job, probe: (n: number) => ProposalInput, step = 50): number {
-  let n = 2000;
-  while (n > step && !fits(job, probe(n))) n -= step;
-  return n;
+  let lo = 0;
+  let hi = 2000 / step + 1;
+  while (hi - lo > 1) {
+    const mid = Math.floor((lo + hi) / 2);
+    if (fits(job, probe(mid * step))) lo = mid;
+    else hi = mid;
+  }
+  return Math.max(step, lo * step);
 }
 
 function denseProbe(n: number, extra: Partial<ProposalInput> = {}): ProposalInput {
@@ -108,14 +116,17 @@ function groups(assets: string[], g: number, share: number, u: () => number): No
  * The shapes. `fraction` scales the draws of the stress shapes (1 = the largest accepted); the
  * optimize shapes are at the largest accepted size already.
  */
-export function limitShapes(fraction = 1): LimitShape[] {
+export type ShapeKind = 'optimize' | 'repair' | 'groups' | 'parametric' | 'history' | 'kelly' | 'factor' | 'check';
+
+export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimize', 'repair', 'groups', 'parametric', 'history', 'kelly', 'factor', 'check']): LimitShape[] {
   const u = uniforms(20261202);
   const out: LimitShape[] = [];
+  const want = (k: ShapeKind): boolean => kinds.includes(k);
 
   const n2000 = ids(2000, 8);
   const denseN = largestN('optimize', (n) => denseProbe(n));
   const dn = ids(denseN);
-  out.push({
+  if (want('optimize')) out.push({
     name: `optimize: dense N=${denseN}, all six methods`,
     job: 'optimize',
     body: { assets: dn, weights: dn.map(() => 1 / denseN), inputs: { mean: dn.map(() => Number((0.003 + 0.01 * u()).toFixed(6))), covariance: covariance(denseN, u), observations: 120, periodsPerYear: 12 }, method: { name: 'mean-variance', riskAversion: 4 } },
@@ -124,14 +135,14 @@ export function limitShapes(fraction = 1): LimitShape[] {
   // Repair needs an eigendecomposition: the largest N the limits accept.
   const repairN = largestN('optimize', (n) => denseProbe(n, { method: { name: 'minimum-variance' }, compare: [], estimation: { repairCovariance: true } }));
   const ra = ids(repairN);
-  out.push({
+  if (want('repair')) out.push({
     name: `optimize: singular dense N=${repairN} with repairCovariance, minimum-variance`,
     job: 'optimize',
     body: { assets: ra, weights: ra.map(() => 1 / repairN), inputs: { mean: ra.map(() => 0.005), covariance: covariance(repairN, u, true), observations: 60, periodsPerYear: 12 }, method: { name: 'minimum-variance' }, compare: [], estimation: { repairCovariance: true } },
   });
 
   const n300 = ids(300);
-  out.push({
+  if (want('groups')) out.push({
     name: 'optimize: dense N=300, 200 overlapping groups (~18 000 memberships), mean-variance',
     job: 'optimize',
     body: {
@@ -153,7 +164,7 @@ export function limitShapes(fraction = 1): LimitShape[] {
     resampling: { scheme: 'iid-bootstrap', draws: 1 },
   }));
   const n500 = ids(500);
-  out.push(
+  if (want('parametric')) out.push(
     withDraws('stress', 'stress: dense moments N=500, parametric, all six methods', {
       assets: n500,
       weights: n500.map(() => 1 / 500),
@@ -162,7 +173,7 @@ export function limitShapes(fraction = 1): LimitShape[] {
     }, undefined, fraction),
   );
 
-  out.push(
+  if (want('history')) out.push(
     withDraws('stress', `stress: history N=${historyN}, T=3, iid bootstrap, equal-weight + inverse-volatility`, {
       assets: ids(historyN),
       weights: ids(historyN).map(() => 1 / historyN),
@@ -175,7 +186,7 @@ export function limitShapes(fraction = 1): LimitShape[] {
 
   const n100 = ids(100);
   const kellyHistory = history(100, 1000, u);
-  out.push(
+  if (want('kelly')) out.push(
     withDraws('stress', 'stress: history N=100, T=1000, scenario Kelly + mean-variance', {
       assets: n100,
       weights: n100.map(() => 1 / 100),
@@ -189,7 +200,7 @@ export function limitShapes(fraction = 1): LimitShape[] {
   const k = 20;
   const factors = Array.from({ length: k }, (_, a) => `factor-${a}`);
   const factorCovariance = factors.map((_, a) => factors.map((__, b) => (a === b ? 0.002 : 0.0002)));
-  out.push(
+  if (want('factor')) out.push(
     withDraws('stress', 'stress: factor model N=2000, K=20, all six methods', {
       assets: n2000,
       weights: n2000.map(() => 1 / 2000),
@@ -213,6 +224,6 @@ export function limitShapes(fraction = 1): LimitShape[] {
     estimation: { covariance: 'ledoit-wolf' },
     constraints: { upper: 0.05, groups: groups(n200, 20, 0.3, u) },
   };
-  out.push(withDraws('check', 'check: history N=200, T=500, 3 methods, 20 groups, baseline proposal', checkBody, { ...checkBody, weights: n200.map((_, i) => (i < 100 ? 1.5 : 0.5) / 200) }, fraction));
+  if (want('check')) out.push(withDraws('check', 'check: history N=200, T=500, 3 methods, 20 groups, baseline proposal', checkBody, { ...checkBody, weights: n200.map((_, i) => (i < 100 ? 1.5 : 0.5) / 200) }, fraction));
   return out;
 }

@@ -15,7 +15,7 @@ const shapeOf = (body: ProposalInput, draws?: number) => {
   return requestShape(p, methodList(p), draws);
 };
 
-function denseProposal(n: number, overrides: Partial<ProposalInput> = {}, value = (i: number, j: number) => (i === j ? 0.04 : 0.01)): ProposalInput {
+function denseProposal(n: number, overrides: Partial<ProposalInput> = {}, value: (i: number, j: number) => number = (i, j) => (i === j ? 0.04 : 0.01)): ProposalInput {
   const assets = Array.from({ length: n }, (_, i) => `a${i}`);
   return {
     assets,
