@@ -34,6 +34,6 @@ describe(`worst accepted shapes under node --max-old-space-size=${HEAP_CAP_MB}`,
       expect(result.estimatedBytes).toBeLessThanOrEqual(LIMITS.maxMemoryBytes);
       expect(result.heapAndBuffersHigh).toBeLessThan(ISOLATE_BYTES - 16 * 1024 * 1024);
       expect(result.responseBytes).toBeLessThanOrEqual(LIMITS.maxResponseBytes);
-    });
+    }, 180_000);
   }
 });

@@ -144,7 +144,7 @@ describe('fuzz: mutated proposals never give a 500, a non-finite number or an un
         }),
         { numRuns: 500 },
       );
-    });
+    }, 180_000);
   }
 
   it('the unmutated bases answer 200 on every route (so the mutations start from valid requests)', async () => {
