@@ -5,6 +5,7 @@ import { CAUTIONS } from '../schema/cautions.js';
 import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
+import { forecastSensitivityTables } from './forecast-sensitivity.js';
 import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
 import { prepareProblem } from './problem.js';
 import { DEFAULT_DRAWS } from '../cost/request-shape.js';
@@ -46,15 +47,20 @@ export async function optimizeProposal(
   const clock = options.clock ?? (() => 0);
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  checkLimits('optimize', proposal, 1, { maxWork: options.maxWork });
+  const workUnits = checkLimits('optimize', proposal, 1, { maxWork: options.maxWork });
   const problem = prepareProblem(proposal, warnings);
   const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(problem, scenarioKelly);
+  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits);
   return assertFiniteReport({
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
-    methods: problem.methods.map((spec, k) => ({ method: spec, base: describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear) })),
-    warnings: [...problem.warnings, ...solved.warnings],
+    methods: problem.methods.map((spec, k) => {
+      const table = sensitivity.tables[k];
+      const base = describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear);
+      return table ? { method: spec, base, forecastSensitivity: table } : { method: spec, base };
+    }),
+    warnings: [...problem.warnings, ...solved.warnings, ...sensitivity.warnings],
     cautions: [...CAUTIONS],
   });
 }
