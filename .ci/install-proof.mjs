@@ -4,13 +4,13 @@
 // hashes come from this checkout's lockfile, the tarballs from the npm cache that `npm ci`
 // filled), then runs the installed `wobble` (help, version, demo, exit codes 0/1/2, render, several
 // outputs), imports the library and the client, and type-checks a TypeScript consumer against the
-// shipped declarations. Exits 1 on the first failed check.
-import { execFileSync, spawnSync } from 'node:child_process';
-import { createHash } from 'node:crypto';
+// shipped declarations. Prints one line per check; exits 1 if any failed.
+import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { packAndInstall } from '../scripts/pack-install.mjs';
 
 const root = fileURLToPath(new URL('..', import.meta.url));
 const work = mkdtempSync(join(tmpdir(), 'wobble-install-proof-'));
@@ -22,53 +22,19 @@ function check(name, ok, detail = '') {
   if (!ok) failures += 1;
 }
 
-// 1. Pack.
-const packed = JSON.parse(execFileSync('npm', ['pack', '--pack-destination', work, '--json'], { cwd: root, encoding: 'utf8', stdio: ['ignore', 'pipe', 'inherit'] }))[0];
-const tarball = join(work, packed.filename);
+// 1. Pack, and install into a fresh project, offline.
+const { packed, project, install, offline } = packAndInstall(root, work);
 const files = packed.files.map((f) => f.path);
 console.log(`packed ${packed.filename}: ${packed.size} bytes (${packed.unpackedSize} unpacked), ${files.length} files`);
 check('the tarball ships no tests, sources or scripts', !files.some((f) => /^(test|src|scripts|\.ci)\//.test(f)), files.filter((f) => /^(test|src|scripts)\//.test(f)).join(', '));
 for (const needed of ['bin/wobble.mjs', 'dist/index.js', 'dist/client.js', 'dist/cli.js', 'dist/types/src/index.d.ts', 'dist/types/src/client/index.d.ts', 'schemas/proposal.schema.json', 'README.md', 'LICENSE']) {
   check(`the tarball has ${needed}`, files.includes(needed));
 }
-
-// 2. Install into a fresh project, offline: a lockfile made of this checkout's production entries.
-const project = join(work, 'project');
-execFileSync('mkdir', ['-p', project]);
-const spec = `file:${tarball}`;
-writeFileSync(join(project, 'package.json'), JSON.stringify({ name: 'wobble-install-proof', version: '1.0.0', private: true, type: 'module', dependencies: { wobble: spec } }, null, 2));
-const checkoutLock = JSON.parse(readFileSync(join(root, 'package-lock.json'), 'utf8'));
-const production = Object.fromEntries(Object.entries(checkoutLock.packages).filter(([path, entry]) => path !== '' && !entry.dev && !entry.link));
-const integrity = `sha512-${createHash('sha512').update(readFileSync(tarball)).digest('base64')}`;
-writeFileSync(
-  join(project, 'package-lock.json'),
-  JSON.stringify(
-    {
-      name: 'wobble-install-proof',
-      version: '1.0.0',
-      lockfileVersion: 3,
-      requires: true,
-      packages: {
-        '': { name: 'wobble-install-proof', version: '1.0.0', dependencies: { wobble: spec } },
-        'node_modules/wobble': { version: pkg.version, resolved: spec, integrity, license: pkg.license, dependencies: pkg.dependencies, bin: pkg.bin, engines: pkg.engines },
-        ...production,
-      },
-    },
-    null,
-    2,
-  ),
-);
-const npmQuiet = ['--no-audit', '--no-fund', '--loglevel=error'];
-let install = spawnSync('npm', ['ci', '--offline', ...npmQuiet], { cwd: project, encoding: 'utf8' });
-if (install.status !== 0) {
-  console.log(`warning: the offline install failed (${install.stderr.trim().split('\n')[0]}); retrying with --prefer-offline`);
-  install = spawnSync('npm', ['install', '--prefer-offline', ...npmQuiet, spec], { cwd: project, encoding: 'utf8' });
-}
-check('npm installs the tarball into a fresh project', install.status === 0, install.stderr);
+check(`npm installs the tarball into a fresh project${offline ? ' (offline)' : ''}`, install.status === 0, install.stderr);
 const installed = JSON.parse(readFileSync(join(project, 'node_modules/wobble/package.json'), 'utf8'));
 check('no devDependency is installed with it', !Object.keys(pkg.devDependencies).some((d) => spawnSync('test', ['-e', join(project, 'node_modules', d)]).status === 0));
 
-// 3. The installed CLI, as CI calls it.
+// 2. The installed CLI, as CI calls it.
 const bin = join(project, 'node_modules/.bin/wobble');
 function wobble(args, input) {
   const r = spawnSync(bin, args, { cwd: project, input, encoding: 'utf8' });
@@ -95,7 +61,7 @@ check('an option that does not apply exits 2 with a one-line hint', inapplicable
 check('a missing file exits 2', wobble(['check', 'missing.json', '--policy', 'pass.json']).code === 2);
 check('wobble render exits 0', wobble(['render', 'report.json', '--format', 'table']).code === 0);
 
-// 4. The library and the client, imported by name from the installed package.
+// 3. The library and the client, imported by name from the installed package.
 writeFileSync(
   join(project, 'library.mjs'),
   `import { readFileSync } from 'node:fs';
@@ -125,7 +91,7 @@ check(
   lib.stderr || lib.stdout,
 );
 
-// 5. A TypeScript consumer type-checks against the shipped declarations (checkout's tsc, Node16 resolution).
+// 4. A TypeScript consumer type-checks against the shipped declarations (checkout's tsc, Node16 resolution).
 writeFileSync(
   join(project, 'consumer.ts'),
   `import { stress, type Report, type Proposal, type Policy, type Verdict, type ProposalInput } from 'wobble';
