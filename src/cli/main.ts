@@ -79,6 +79,10 @@ export async function run(argv: readonly string[] = process.argv.slice(2)): Prom
     if (isCallerError(e)) {
       process.stderr.write(`wobble: ${(e as Error).message}\n`);
       process.exitCode = EXIT.usage;
+    } else if ((e as NodeJS.ErrnoException | undefined)?.syscall) {
+      // The system refused (disk full, broken pipe…): not the caller's input, not a bug in wobble.
+      process.stderr.write(`wobble: internal error: ${(e as Error).message}\n`);
+      process.exitCode = EXIT.internal;
     } else {
       process.stderr.write(`wobble: internal error (a bug; please report it with the input): ${(e as Error)?.stack ?? String(e)}\n`);
       process.exitCode = EXIT.internal;

@@ -114,6 +114,12 @@ describe('wobble CLI', () => {
     expect(wobble(['--frobnicate']).code).toBe(2);
   });
 
+  it.skipIf(!existsSync('/dev/full'))('a failure that is neither the input nor a gate (here: the output device is full) is exit 3', () => {
+    const r = wobble(['demo', '--out', '/dev/full']);
+    expect(r.code).toBe(3);
+    expect(r.stderr).toContain('internal error');
+  });
+
   it('a maxIncrease rule without --baseline is exit 2 before any draw, naming the rule', () => {
     const dir = mkdtempSync(join(tmpdir(), 'wobble-'));
     const policy = join(dir, 'policy.json');
