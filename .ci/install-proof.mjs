@@ -27,7 +27,7 @@ const { packed, project, install, offline } = packAndInstall(root, work);
 const files = packed.files.map((f) => f.path);
 console.log(`packed ${packed.filename}: ${packed.size} bytes (${packed.unpackedSize} unpacked), ${files.length} files`);
 check('the tarball ships no tests, sources or scripts', !files.some((f) => /^(test|src|scripts|\.ci)\//.test(f)), files.filter((f) => /^(test|src|scripts)\//.test(f)).join(', '));
-for (const needed of ['bin/wobble.mjs', 'dist/index.js', 'dist/client.js', 'dist/cli.js', 'dist/types/src/index.d.ts', 'dist/types/src/client/index.d.ts', 'schemas/proposal.schema.json', 'README.md', 'LICENSE']) {
+for (const needed of ['bin/wobble.mjs', 'dist/index.js', 'dist/client.js', 'dist/cli.js', 'dist/types/src/index.d.ts', 'dist/types/src/client/index.d.ts', 'dist/THIRD-PARTY-LICENSES.txt', 'schemas/proposal.schema.json', 'README.md', 'LICENSE']) {
   check(`the tarball has ${needed}`, files.includes(needed));
 }
 check(`npm installs the tarball into a fresh project${offline ? ' (offline)' : ''}`, install.status === 0, install.stderr);
