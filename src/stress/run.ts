@@ -1,4 +1,4 @@
-import type { MethodName, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
+import type { MethodSpec, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
 import type { OptimizeResponse, Report } from '../schema/report.js';
 import type { Warning } from '../schema/validate.js';
 import { CAUTIONS } from '../schema/cautions.js';
@@ -33,14 +33,15 @@ export async function optimizeProposal(proposal: Proposal, warnings: Warning[], 
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
   checkLimits(proposal, 1, scheme, methodList(proposal));
-  const problem = prepareProblem(proposal, warnings);
-  const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
-  const solved = solveBaseOptima(problem, scenarioKelly);
+  const prepared = prepareProblem(proposal, warnings);
+  const scenarioKelly = prepared.history !== undefined && scheme !== 'parametric';
+  const solved = solveBaseOptima(prepared, scenarioKelly);
+  const problem = solved.problem;
   return {
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
     methods: problem.methods.map((spec, k) => ({ method: spec, base: describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear) })),
-    warnings: [...problem.warnings, ...solved.warnings],
+    warnings: [...prepared.warnings, ...solved.warnings],
     cautions: [...CAUTIONS],
   };
 }
@@ -101,6 +102,6 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     seed: candidate.run.plan.seed,
     clock: options.clock,
   });
-  const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
+  const paired = (metric: PolicyRule['metric'], spec: MethodSpec) => pairedStdErr(candidate.run, base.run, metric, spec);
   return { ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) };
 }
