@@ -170,7 +170,7 @@ export function kelly(
   // then there is no optimum at all, and the last iterate must not be passed off as one.
   if (!converged || leverageOf(w, constraints.budget) > SUSPICIOUS_LEVERAGE) {
     const arbitrage = findArbitrage(scenarios, scenarioCount, constraints);
-    if (arbitrage) throw new OptimizationError('unbounded', describeArbitrage(arbitrage.direction, options.assetNames));
+    if (arbitrage) throw new OptimizationError('unbounded', describeArbitrage(arbitrage.direction, options.assetNames), 'Kelly has no optimum: the scenarios admit an arbitrage');
   }
   const warnings: { code: string; message: string }[] = [];
   if (!converged) {

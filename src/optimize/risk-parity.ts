@@ -716,7 +716,7 @@ export function solveRiskParity(model: RiskModel, options: RiskParityOptions = {
   const converged = residual <= Math.max(RISK_PARITY_ACCEPT_TOLERANCE, Math.min(floor, RISK_PARITY_ILL_CONDITIONED_MAX));
   if (!converged) {
     const hedged = zeroRiskCombination(model, weights, ws.variances, options.assetNames);
-    if (hedged) throw new OptimizationError('singular', hedged);
+    if (hedged) throw new OptimizationError('singular', hedged, 'risk parity has no solution: a long-only combination of assets has zero risk');
   }
 
   const warnings: { code: string; message: string }[] = [];

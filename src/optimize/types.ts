@@ -50,6 +50,8 @@ export class OptimizationError extends Error {
   constructor(
     readonly code: 'infeasible' | 'unbounded' | 'not-converged' | 'singular' | 'invalid-input',
     message: string,
+    /** A short label without per-solve details, so failed draws with the same cause are counted together. */
+    readonly label?: string,
   ) {
     super(message);
     this.name = 'OptimizationError';

@@ -391,7 +391,10 @@ function drawInputs(plan: StressPlan, b: number, buf: DrawBuffers): DrawInputs {
 }
 
 function failureReason(e: unknown): string {
-  if (e instanceof OptimizationError) return (e.message.startsWith(`${e.code}:`) ? e.message : `${e.code}: ${e.message}`).slice(0, 200);
+  if (e instanceof OptimizationError) {
+    const text = e.label ?? e.message;
+    return (text.startsWith(`${e.code}:`) ? text : `${e.code}: ${text}`).slice(0, 200);
+  }
   if (e instanceof EstimationError) return `estimation: ${e.message}`.slice(0, 200);
   if (e instanceof RangeError) return `numerical: ${e.message}`.slice(0, 200);
   throw e;

@@ -51,8 +51,18 @@ interface QuantileTerm {
  * over the draws where both succeeded (Serfling 1980, §2.3.3: the joint asymptotics of sample
  * quantiles). NaN when a column has fewer than 2 successful draws.
  */
-export function quantileCombinationStdErr(terms: readonly QuantileTerm[]): number {
-  const draws = terms[0].slots.length;
+export function quantileCombinationStdErr(input: readonly QuantileTerm[]): number {
+  const draws = input[0].slots.length;
+  // Terms on identical columns at the same probability are one term: their coefficients add
+  // (a figure that no change touches cancels exactly instead of leaving a rounding residue).
+  const terms: QuantileTerm[] = [];
+  for (const t of input) {
+    const same = terms.findIndex((u) => u.probability === t.probability && sameValues(u.slots, t.slots));
+    if (same >= 0) terms[same] = { ...terms[same], coefficient: terms[same].coefficient + t.coefficient };
+    else terms.push(t);
+  }
+  for (let k = terms.length - 1; k >= 0; k--) if (terms[k].coefficient === 0) terms.splice(k, 1);
+  if (terms.length === 0) return 0;
   const scratch = new Float64Array(draws);
   // Columns with identical values in every slot are one column (e.g. the proposal's volatility,
   // which no method change touches): their difference is exactly 0, not a rounding residue.

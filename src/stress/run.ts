@@ -8,6 +8,7 @@ import { inputDigest } from './digest.js';
 import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
 import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
+import { methodKey } from './method-key.js';
 import { pairedStdErr, type StressRun } from './paired.js';
 import { judge } from './verdict.js';
 
@@ -72,8 +73,18 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
   const acc = computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
+    // Name the most frequent reason, so the caller learns why (e.g. an arbitrage among the scenarios).
+    let topReason = '';
+    let topCount = 0;
+    for (const [reason, count] of [...acc.methods[0].failures, ...acc.inputFailures]) {
+      if (count > topCount || (count === topCount && reason < topReason)) {
+        topReason = reason;
+        topCount = count;
+      }
+    }
     throw new TooManyFailuresError(
-      `${plan.problem.methods[0].name} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report. Consider a shrinkage covariance or a factor model.`,
+      `${methodKey(plan.problem.methods[0])} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report.` +
+        (topCount > 0 ? ` Most frequent reason (${topCount} draws): ${topReason}` : ' Consider a shrinkage covariance or a factor model.'),
     );
   }
   const digest = await inputDigest(proposal);
