@@ -15,8 +15,10 @@ import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
  *   interval over z. That is the Siddiqui (1960) / Bloch & Gastwirth (1968) estimate of the
  *   sparsity 1/f(Q(q)) times √(q(1−q)/n), the asymptotic sd of a sample quantile (Serfling 1980,
  *   §2.3.3). Q is the type-7 percentile (quantiles.ts), so ranks are interpolated, not rounded;
- *   probabilities are clamped to [0, 1] and the divisor shrinks with the clamped width. It is
- *   exactly 0 when the order statistics around the percentile are tied (a point mass).
+ *   probabilities are clamped to [0, 1] and the divisor shrinks with the clamped width. When the
+ *   draws inside the interval are tied (a point mass) the interval is widened (3, 4, 5, 7 sds):
+ *   the error is exactly 0 only when the draws within ±7 sds of rank are tied, i.e. no plausible
+ *   rerun could move the percentile off the mass.
  * - A difference of two percentiles of one column (a band width Q(h) − Q(l)):
  *   Var = SE_l² + SE_h² − 2ρ·SE_l·SE_h with the asymptotic correlation of sample quantiles
  *   ρ = l(1−h) / √(l(1−l)·h(1−h)) (Serfling 1980, §2.3.3; 0.0526 for the 5th and 95th).
@@ -45,7 +47,7 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   '(ranges of draws computed apart give the same errors). Means: the sample standard deviation (divisor n-1) over the n ' +
   'successful draws divided by sqrt(n). Percentiles: the order-statistic interval: with s = sqrt(q(1-q)/n), ' +
   'SE = (Q(q + 1.96 s) - Q(q - 1.96 s)) / (2 * 1.96) (probabilities clamped to [0, 1], the divisor shrunk to match), ' +
-  'exactly 0 when the draws around the percentile are tied. Band widths and differences of percentiles combine those ' +
+  'widened over ties up to 7 s, and exactly 0 when the draws within q -/+ 7 s are all tied (a point mass). Band widths and differences of percentiles combine those ' +
   'errors with the asymptotic correlation of sample quantiles (for runs against a baseline on common random numbers, ' +
   'the correlation counted over the paired draws). Standard deviations: the delta method with the fourth moment. ' +
   'Outside-band share: a bootstrap of the draws (200 replicates, seeded, draws resampled by index). ' +
@@ -160,12 +162,21 @@ export function orderStatisticStdErr(sorted: ArrayLike<number>, n: number, q: nu
     const gap = q === 0 ? sorted[1] - sorted[0] : sorted[n - 1] - sorted[n - 2];
     return gap;
   }
-  const lo = Math.max(0, q - NORMAL_QUANTILE_975 * s);
-  const hi = Math.min(1, q + NORMAL_QUANTILE_975 * s);
-  const width = quantileSorted(sorted, n, hi) - quantileSorted(sorted, n, lo);
-  if (width === 0) return 0;
-  return (s * width) / (hi - lo);
+  // The ≈ 95 % interval first; when the draws inside it are tied (the percentile sits on a point
+  // mass, e.g. a weight at a bound), widen it step by step up to ±7 sds of rank: only a mass that
+  // covers the whole ±7-sd interval cannot move in any plausible rerun and has error exactly 0.
+  // A mass whose edge lies within reach gets the (conservative) spread read from the widened interval.
+  for (const k of INTERVAL_WIDENING) {
+    const lo = Math.max(0, q - k * s);
+    const hi = Math.min(1, q + k * s);
+    const width = quantileSorted(sorted, n, hi) - quantileSorted(sorted, n, lo);
+    if (width > 0) return (s * width) / (hi - lo);
+  }
+  return 0;
 }
+
+/** Half-widths (in sds of rank) of the order-statistic interval: 1.96 first, widened over ties up to 7. */
+const INTERVAL_WIDENING = [NORMAL_QUANTILE_975, 3, 4, 5, 7];
 
 /**
  * Asymptotic correlation of the sample l- and h-quantiles of one sample (l ≤ h):
