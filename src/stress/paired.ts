@@ -210,6 +210,9 @@ export function pairedStdErr(candidate: StressRun, baseline: StressRun, metric: 
       for (let r = 0; r < a.length; r++) diff[r] = a[r] - b[r];
       return stridedMoments(diff, 0, 1, diff.length).sd;
     }
+    case 'forecast-break-even-std-errs':
+      // Break-even shifts are exact (no draws): the difference of two runs has no Monte Carlo error.
+      return 0;
     case 'mean-driven-share': {
       const a = ma.channels.leaveOneGroupOutShares();
       const b = mb.channels.leaveOneGroupOutShares();
