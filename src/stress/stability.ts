@@ -91,19 +91,46 @@ export function outsideBandShareReplicates(
   if (assets === 0) return undefined;
   const out = new Float64Array(BOOTSTRAP_REPLICATES);
   if (active.length === 0) return out.fill(fixedOutside / assets);
-  const counts = new Int32Array(draws);
+  const replicates = bootstrapCounts(seed, draws);
   for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
-    resampleCounts(seed, r, draws, counts);
+    const counts = replicates[r];
+    // Failed draws are failed for every asset of a method (whole rows), so one total serves all.
+    const total = resampledTotal(active[0].order, counts);
     let outside = fixedOutside;
     for (const a of active) {
-      const lo = expandedQuantile(a.sorted, a.order, counts, LOW);
-      const hi = expandedQuantile(a.sorted, a.order, counts, HIGH);
-      if (Number.isNaN(lo)) continue;
+      if (total === 0) break;
+      const lo = expandedQuantile(a.sorted, a.order, counts, LOW, total);
+      const hi = expandedQuantile(a.sorted, a.order, counts, HIGH, total);
       if (a.x < lo - tolerance || a.x > hi + tolerance) outside++;
     }
     out[r] = outside / assets;
   }
   return out;
+}
+
+/**
+ * The R replicates' counts for (seed, draws), computed once and reused by every method and by the
+ * paired baseline run (same seed and draw count: the same resampled draws). One entry is kept.
+ */
+let cachedCounts: { key: string; counts: Int32Array[] } | undefined;
+
+function bootstrapCounts(seed: Seed, draws: number): Int32Array[] {
+  const key = `${typeof seed}:${String(seed)}|${draws}`;
+  if (cachedCounts?.key === key) return cachedCounts.counts;
+  const counts: Int32Array[] = [];
+  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
+    const c = new Int32Array(draws);
+    resampleCounts(seed, r, draws, c);
+    counts.push(c);
+  }
+  cachedCounts = { key, counts };
+  return counts;
+}
+
+function resampledTotal(order: Int32Array, counts: Int32Array): number {
+  let total = 0;
+  for (let j = 0; j < order.length; j++) total += counts[order[j]];
+  return total;
 }
 
 /** counts[b] = how often draw b is picked when B draws are drawn with replacement from stream (seed, r, 'mc-error'). */
@@ -128,10 +155,9 @@ function nearEdge(sorted: Float64Array, m: number, x: number, tolerance: number)
  * Type-7 q-quantile of the resampled sample in which sorted value j (from draw order[j]) appears
  * counts[order[j]] times. NaN when the resample holds no successful draw. O(m).
  */
-export function expandedQuantile(sorted: Float64Array, order: Int32Array, counts: Int32Array, q: number): number {
+export function expandedQuantile(sorted: Float64Array, order: Int32Array, counts: Int32Array, q: number, knownTotal?: number): number {
   const m = sorted.length;
-  let total = 0;
-  for (let j = 0; j < m; j++) total += counts[order[j]];
+  const total = knownTotal ?? resampledTotal(order, counts);
   if (total === 0) return Number.NaN;
   const h = (total - 1) * q;
   const lowerIndex = Math.floor(h);
