@@ -53,10 +53,14 @@ def order_stat_se(x, q):
     if n < 2:
         return float('nan')
     s = math.sqrt(q * (1 - q) / n)
-    lo = max(0.0, q - Z * s)
-    hi = min(1.0, q + Z * s)
-    width = float(np.quantile(x, hi, method='linear') - np.quantile(x, lo, method='linear'))
-    return 0.0 if width == 0 else s * width / (hi - lo)
+    # Widened over ties (1.96, 3, 4, 5, 7 sds of rank); 0 only when all are tied.
+    for k in (Z, 3, 4, 5, 7):
+        lo = max(0.0, q - k * s)
+        hi = min(1.0, q + k * s)
+        width = float(np.quantile(x, hi, method='linear') - np.quantile(x, lo, method='linear'))
+        if width > 0:
+            return s * width / (hi - lo)
+    return 0.0
 
 
 def jackknife_se(loo):

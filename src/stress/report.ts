@@ -41,7 +41,10 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
   const ppy = p.periodsPerYear;
   const warnings = [...plan.warnings];
   if (plan.draws < 100) {
-    warnings.push({ code: 'few-draws', message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.` });
+    warnings.push({
+      code: 'few-draws',
+      message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.${plan.draws < 2 ? ' With a single draw no Monte Carlo error can be estimated: every error is null.' : ''}`,
+    });
   }
 
   const methods: MethodReport[] = plan.solvers.map((_, k) => {
