@@ -9,6 +9,7 @@ import { expectedShortfall } from './scenarios.js';
 import { findingsFor } from './findings.js';
 import { methodKey } from './method-key.js';
 export { methodKey } from './method-key.js';
+import { forecastSensitivityTables } from './forecast-sensitivity.js';
 import { PERCENTILE_DEFINITION } from './quantiles.js';
 import type { ScalarSummary } from './scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
@@ -47,6 +48,8 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     });
   }
 
+  const sensitivity = forecastSensitivityTables(p, plan.base, plan.baseScenarios, plan.workUnits, plan.maxWorkUnits);
+  warnings.push(...sensitivity.warnings);
   const methods: MethodReport[] = plan.solvers.map((_, k) => {
     const a = acc.methods[k];
     const spec = p.methods[k];
@@ -99,6 +102,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       outsideBandShare: { value: finite(stability.value), stdErr: error(stability.stdErr) },
       maxWeightSd: { value: finite(maxSd), stdErr: error(maxSdErr) },
       failedDraws: summary.failedDraws,
+      ...(sensitivity.tables[k] ? { forecastSensitivity: sensitivity.tables[k] } : {}),
     };
   });
 
@@ -158,7 +162,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       channels: ['joint', 'mean-only', 'covariance-only'],
       percentiles: PERCENTILE_DEFINITION,
       monteCarloError: MONTE_CARLO_ERROR_DESCRIPTION,
-      workUnits: Math.round(plan.workUnits),
+      workUnits: Math.round(plan.workUnits + sensitivity.workUnits),
       baseEstimation: Object.fromEntries(Object.entries(p.estimationNotes).map(([k, v]) => [k, clean(v)])),
     },
     assets: [...p.assets],
