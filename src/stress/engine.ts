@@ -29,6 +29,8 @@ import { difference, expectedShortfall, shiftedRows } from './scenarios.js';
 import { WeightAccumulator } from './weight-accumulator.js';
 import { effectiveMaxWork, priceRequest, type CostOptions } from '../cost/check.js';
 import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
+import { degenerateInputWarnings } from './degenerate-inputs.js';
+import { methodKey } from './method-key.js';
 
 /** A request over a service limit (HTTP 413). */
 export class LimitError extends Error {
@@ -123,9 +125,9 @@ export function planStress(
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
   const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork });
 
-  const problem = prepareProblem(proposal, warnings);
-  const history = problem.history;
-  const planWarnings = [...problem.warnings];
+  const prepared = prepareProblem(proposal, warnings);
+  const history = prepared.history;
+  const planWarnings = [...prepared.warnings];
   let meanBlockLength: number | null = null;
   if (history && scheme === 'stationary-bootstrap') {
     const requested = proposal.resampling?.meanBlockLength ?? 'auto';
@@ -136,7 +138,7 @@ export function planStress(
   }
   const scenarioKelly = history !== undefined && scheme !== 'parametric';
 
-  const { solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(problem, scenarioKelly);
+  const { problem, solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(prepared, scenarioKelly);
   planWarnings.push(...baseWarnings);
 
   const reference = solveReferenceMeanVariance(problem, problem.methods, base);
@@ -166,7 +168,7 @@ export function planStress(
 export function solveBaseOptima(
   problem: PreparedProblem,
   scenarioKelly: boolean,
-): { solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[] } {
+): { problem: PreparedProblem; solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[] } {
   const n = problem.n;
   const history = problem.history;
   const solvers = problem.methods.map((spec) => createMethodSolver(spec, problem, { scenarioKelly }));
@@ -181,9 +183,27 @@ export function solveBaseOptima(
     shiftedRows(history.assets.values, n, rows, undefined, difference(problem.mean, historyMean, new Float64Array(n)), baseScenarios);
   }
   const inputs: SolveInputs = { mean: problem.mean, riskModel: problem.riskModel, scenarios: baseScenarios, scenarioCount: rows };
-  const base = solvers.map((s) => s.solve(inputs));
-  const warnings: Warning[] = [];
-  problem.methods.forEach((spec) => {
+  const warnings: Warning[] = degenerateInputWarnings(problem);
+  // Every base optimum is judged by its own diagnostics. The proposal's own method must have an
+  // answer (else the request is refused: 422 naming the cause); a compared method without one is
+  // left out of the report with a warning saying why, so it never shows made-up figures.
+  const kept: number[] = [];
+  const base: MethodResult[] = [];
+  problem.methods.forEach((spec, k) => {
+    try {
+      const result = solvers[k].solve(inputs);
+      const failed = solveFailure(result);
+      if (failed) throw new OptimizationError('not-converged', `${methodKey(spec)} on the base inputs: ${failed}`);
+      base.push(result);
+      kept.push(k);
+    } catch (e) {
+      if (k === 0 || !(e instanceof OptimizationError)) throw e;
+      warnings.push({ code: 'method-excluded', message: `${methodKey(spec)} was left out of the comparison: ${e.code}: ${e.message}` });
+    }
+  });
+  const methods = kept.map((k) => problem.methods[k]);
+  const keptProblem: PreparedProblem = kept.length === problem.methods.length ? problem : { ...problem, methods };
+  methods.forEach((spec) => {
     if (spec.name === 'kelly' && !scenarioKelly) {
       warnings.push({
         code: 'kelly-quadratic-approximation',
@@ -192,7 +212,7 @@ export function solveBaseOptima(
     }
   });
   // Each method's own warnings stay with its optimum (methods[i].base.warnings), not repeated here.
-  return { solvers, base, baseScenarios, warnings };
+  return { problem: keptProblem, solvers: kept.map((k) => solvers[k]), base, baseScenarios, warnings };
 }
 
 /**
@@ -346,10 +366,26 @@ function drawInputs(plan: StressPlan, b: number, buf: DrawBuffers): DrawInputs {
 }
 
 function failureReason(e: unknown): string {
-  if (e instanceof OptimizationError) return `${e.code}: ${e.message}`.slice(0, 200);
+  if (e instanceof OptimizationError) {
+    const text = e.label ?? e.message;
+    return (text.startsWith(`${e.code}:`) ? text : `${e.code}: ${text}`).slice(0, 200);
+  }
   if (e instanceof EstimationError) return `estimation: ${e.message}`.slice(0, 200);
   if (e instanceof RangeError) return `numerical: ${e.message}`.slice(0, 200);
   throw e;
+}
+
+/**
+ * A solve's own verdict on itself: undefined when it is an answer, else the failure reason
+ * (a short, countable label). Every per-draw solve is judged this way — unconverged, a residual
+ * above the method's accepted tolerance (`converged` is false then), or non-finite weights.
+ */
+export function solveFailure(result: MethodResult): string | undefined {
+  const w = result.weights;
+  for (let i = 0; i < w.length; i++) if (!Number.isFinite(w[i])) return 'numerical: non-finite weights';
+  if (!Number.isFinite(result.diagnostics.kktResidual)) return 'not-converged: non-finite KKT residual';
+  if (!result.diagnostics.converged) return `not-converged: ${result.diagnostics.solver} stopped above its accepted KKT residual`;
+  return undefined;
 }
 
 function turnover(a: Float64Array, b: Float64Array): number {
@@ -404,6 +440,8 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
       let joint: MethodResult;
       try {
         joint = solver.solve(inputs.joint, base.warmStart);
+        const failed = solveFailure(joint);
+        if (failed) throw new OptimizationError('not-converged', failed);
       } catch (e) {
         bump(m.failures, failureReason(e));
         m.weights.recordFailure(b);
@@ -430,7 +468,10 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
         ['covariance-only', inputs.covOnly],
       ] as const) {
         try {
-          m.channels.record(b, channel, solver.solve(channelInputs, base.warmStart).weights);
+          const result = solver.solve(channelInputs, base.warmStart);
+          const failed = solveFailure(result);
+          if (failed) throw new OptimizationError('not-converged', failed);
+          m.channels.record(b, channel, result.weights);
         } catch (e) {
           bump(m.failures, `${channel} channel: ${failureReason(e)}`);
           m.channels.recordFailure(b, channel);

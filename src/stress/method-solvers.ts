@@ -52,7 +52,7 @@ export function createMethodSolver(spec: MethodSpec, problem: PreparedProblem, c
         usesMean: true,
         solve: (x, warmStart) => {
           if (!x.scenarios || !x.scenarioCount) throw new Error('scenario Kelly needs scenario rows');
-          return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace, kellyWorkspace });
+          return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace, kellyWorkspace, assetNames });
         },
       };
     }

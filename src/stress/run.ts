@@ -1,4 +1,4 @@
-import type { MethodName, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
+import type { MethodSpec, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
 import type { OptimizeResponse, Report } from '../schema/report.js';
 import type { Warning } from '../schema/validate.js';
 import { CAUTIONS } from '../schema/cautions.js';
@@ -12,6 +12,7 @@ import { DEFAULT_DRAWS } from '../cost/request-shape.js';
 import { assertFiniteReport } from './finite-guard.js';
 import { effectiveMaxWork } from '../cost/check.js';
 import { buildReport } from './report.js';
+import { methodKey } from './method-key.js';
 import { pairedStdErr, type StressRun } from './paired.js';
 import { judge } from './verdict.js';
 
@@ -49,9 +50,11 @@ export async function optimizeProposal(
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
   const workUnits = checkLimits('optimize', proposal, 1, { maxWork: options.maxWork });
-  const problem = prepareProblem(proposal, warnings);
-  const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
-  const solved = solveBaseOptima(problem, scenarioKelly);
+  const prepared = prepareProblem(proposal, warnings);
+  const scenarioKelly = prepared.history !== undefined && scheme !== 'parametric';
+  const solved = solveBaseOptima(prepared, scenarioKelly);
+  // Methods without a base optimum (compared ones) are left out: solved.problem lists those kept.
+  const problem = solved.problem;
   const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWork({ maxWork: options.maxWork }));
   return assertFiniteReport({
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
@@ -61,7 +64,7 @@ export async function optimizeProposal(
       const base = describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear);
       return table ? { method: spec, base, forecastSensitivity: table } : { method: spec, base };
     }),
-    warnings: [...problem.warnings, ...solved.warnings, ...sensitivity.warnings],
+    warnings: [...prepared.warnings, ...solved.warnings, ...sensitivity.warnings],
     cautions: [...CAUTIONS],
   });
 }
@@ -92,8 +95,18 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
   const acc = computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
+    // Name the most frequent reason, so the caller learns why (e.g. an arbitrage among the scenarios).
+    let topReason = '';
+    let topCount = 0;
+    for (const [reason, count] of [...acc.methods[0].failures, ...acc.inputFailures]) {
+      if (count > topCount || (count === topCount && reason < topReason)) {
+        topReason = reason;
+        topCount = count;
+      }
+    }
     throw new TooManyFailuresError(
-      `${plan.problem.methods[0].name} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report. Consider a shrinkage covariance or a factor model.`,
+      `${methodKey(plan.problem.methods[0])} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report.` +
+        (topCount > 0 ? ` Most frequent reason (${topCount} draws): ${topReason}` : ' Consider a shrinkage covariance or a factor model.'),
     );
   }
   const digest = await inputDigest(proposal);
@@ -128,6 +141,6 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     clock: options.clock,
     maxWork: options.maxWork,
   });
-  const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
+  const paired = (metric: PolicyRule['metric'], spec: MethodSpec) => pairedStdErr(candidate.run, base.run, metric, spec);
   return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) });
 }
