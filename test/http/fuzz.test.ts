@@ -33,7 +33,7 @@ const bases: [string, ProposalInput][] = [
   ['history', historyProposal(24, { resampling: { draws: 8, seed: 1 }, compare: [{ name: 'kelly' }, { name: 'inverse-volatility' }, { name: 'risk-parity' }] })],
   ['factor', factorProposal],
   // Three rows for four assets: a singular sample covariance, so minimum variance finds a zero-variance portfolio.
-  ['singular history', historyProposal(3, { method: { name: 'minimum-variance' }, compare: [{ name: 'risk-parity' }, { name: 'mean-variance', riskAversion: 2 }], resampling: { draws: 8, seed: 1, scheme: 'iid-bootstrap' } })],
+  ['singular history', historyProposal(3, { method: { name: 'mean-variance', riskAversion: 2 }, compare: [{ name: 'risk-parity' }, { name: 'minimum-variance' }], resampling: { draws: 8, seed: 1, scheme: 'iid-bootstrap' } })],
   ['views', momentsProposal({ resampling: { draws: 8, seed: 2 }, views: { mean: [0.01, 0.02, 0.005], stdErr: [0.01, 0.01, 0.02] } })],
 ];
 
