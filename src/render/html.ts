@@ -363,7 +363,7 @@ function methodDetails(r: Report, m: MethodReport, pm: MethodReport | undefined)
         .join('') +
       cell(escapeHtml(formatPercentileRank(w.proposalPercentile)), true) +
       cell(escapeHtml(formatPercent(m.meanDrivenShare.perAsset[i] ?? 0)), true) +
-      cell(escapeHtml(formatPercent(m.resampledAverage[i])), true) +
+      cell(escapeHtml(formatPercent(m.meanOfOptima[i])), true) +
       '</tr>',
   );
   const warnings = b.warnings.length > 0 ? `<ul>${b.warnings.map((w) => `<li><strong>${escapeHtml(w.code)}</strong>: ${escapeHtml(w.message)}</li>`).join('')}</ul>` : '';
@@ -389,7 +389,7 @@ function methodDetails(r: Report, m: MethodReport, pm: MethodReport | undefined)
     ),
     htmlTable(
       'Weights over draws',
-      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', 'Band ± se', 'Selected', 'Proposal percentile', 'Mean-driven', 'Resampled average'],
+      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', 'Band ± se', 'Selected', 'Proposal percentile', 'Mean-driven', 'Mean of optima'],
       weightRows,
     ),
     '</details>',

@@ -192,7 +192,7 @@ function methodSection(r: Report, m: MethodReport, pm: MethodReport | undefined)
     ),
     '',
     ...table(
-      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', 'Band ± se', 'Selected', 'Proposal percentile', 'Mean-driven', 'Resampled average'],
+      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', 'Band ± se', 'Selected', 'Proposal percentile', 'Mean-driven', 'Mean of optima'],
       m.weights.map((w, i) => [
         escapeMarkdown(w.asset),
         formatPercent(r.proposal.weights[i]),
@@ -208,7 +208,7 @@ function methodSection(r: Report, m: MethodReport, pm: MethodReport | undefined)
         formatPercent(w.selectionRate),
         formatPercentileRank(w.proposalPercentile),
         formatPercent(m.meanDrivenShare.perAsset[i] ?? 0),
-        formatPercent(m.resampledAverage[i]),
+        formatPercent(m.meanOfOptima[i]),
       ]),
       ['l', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r'],
     ),

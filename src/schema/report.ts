@@ -87,7 +87,7 @@ export const MethodReportSchema = z.strictObject({
       stdErr: z.number().min(0).describe('Monte Carlo standard error of `overall` (batch means).'),
     })
     .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
-  resampledAverage: z.array(z.number()).describe('Weights averaged over draws.'),
+  meanOfOptima: z.array(z.number()).describe('Mean of the re-optimised weights: each asset’s weight averaged over the successful draws.'),
   outsideBandShare: EstimateSchema.describe("Share of assets whose proposed weight lies outside this method's p05–p95 band."),
   maxWeightSd: EstimateSchema.describe('Largest standard deviation of any asset’s weight across draws.'),
   failedDraws: z.int().min(0),

@@ -82,7 +82,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
         perAsset: cleanArray(Array.from(shares.perAsset, (x) => (Number.isFinite(x) ? x : 0))),
         stdErr: finite(shares.overallStdErr),
       },
-      resampledAverage: cleanArray(summary.resampledAverage),
+      meanOfOptima: cleanArray(summary.meanOfOptima),
       outsideBandShare: { value: finite(stability.value), stdErr: finite(stability.stdErr) },
       maxWeightSd: { value: finite(maxSd), stdErr: finite(maxSdErr) },
       failedDraws: summary.failedDraws,

@@ -61,8 +61,8 @@ export interface AssetWeightSummary {
 
 export interface WeightSummary extends DrawCounts {
   readonly perAsset: AssetWeightSummary[];
-  /** Mean weights over the successful draws (the resampled average), per asset. */
-  readonly resampledAverage: Float64Array;
+  /** Mean of the re-optimised weights over the successful draws, per asset. */
+  readonly meanOfOptima: Float64Array;
   readonly selectionThreshold: number;
   readonly quantileErrorMethod: 'batch-means' | 'order-statistic';
 }
@@ -161,7 +161,7 @@ export class WeightAccumulator {
     const workspace = createQuantileErrorWorkspace(B);
     const bands = new Float64Array(BAND_PROBABILITIES.length);
     const edgeErrors = new Float64Array(EDGE_PROBABILITIES.length);
-    const resampledAverage = new Float64Array(n);
+    const meanOfOptima = new Float64Array(n);
     const perAsset: AssetWeightSummary[] = [];
     let quantileErrorMethod: 'batch-means' | 'order-statistic' = 'order-statistic';
     for (let i = 0; i < n; i++) {
@@ -176,7 +176,7 @@ export class WeightAccumulator {
       const proposalPercentileStdErr = midRankStdErr(workspace.sort, m, proposal[i]);
       quantileErrorMethod = quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
       const selectionRate = m > 0 ? selected / m : Number.NaN;
-      resampledAverage[i] = moments.mean;
+      meanOfOptima[i] = moments.mean;
       perAsset.push({
         mean: moments.mean,
         meanStdErr: moments.stdErr,
@@ -196,7 +196,7 @@ export class WeightAccumulator {
         proposalPercentileStdErr,
       });
     }
-    return { ...this.counts(), perAsset, resampledAverage, selectionThreshold, quantileErrorMethod };
+    return { ...this.counts(), perAsset, meanOfOptima, selectionThreshold, quantileErrorMethod };
   }
 
   /**

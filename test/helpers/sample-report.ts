@@ -228,7 +228,7 @@ function methodReport(plan: MethodPlan, assets: readonly string[], index: number
       perAsset: plan.base.map((_, i) => (plan.meanDriven === 0 ? 0 : Math.min(1, plan.meanDriven * (0.75 + 0.05 * i)))),
       stdErr: plan.meanDriven === 0 ? 0 : 0.021,
     },
-    resampledAverage: [...plan.base],
+    meanOfOptima: [...plan.base],
     failedDraws: plan.failedDraws,
   };
 }

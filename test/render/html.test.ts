@@ -127,7 +127,7 @@ describe('renderReportHtml', () => {
         ...template,
         weights: r.assets.map((asset, i) => ({ ...template.weights[0], asset, p05: 0, p25: 0.002, p50: 0.005, p75: 0.008, p95: 0.01 + i * 1e-5 })),
         meanDrivenShare: { ...template.meanDrivenShare, perAsset: r.assets.map(() => 0.5) },
-        resampledAverage: r.assets.map(() => 1 / n),
+        meanOfOptima: r.assets.map(() => 1 / n),
         base: { ...template.base, weights: r.assets.map(() => 1 / n), riskContributions: r.assets.map(() => 1 / n) },
       },
     ];
