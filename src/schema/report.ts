@@ -133,8 +133,31 @@ export const VerdictSchema = z.strictObject({
   rules: z.array(VerdictRuleSchema),
 });
 
+export const ReportSummarySchema = z
+  .strictObject({
+    headline: z.string().describe('The answer in one or two sentences, read aloud: the `sentences` joined. Every draw-based number carries its Monte Carlo standard error (±).'),
+    sentences: z.array(z.string()).describe('The headline sentence by sentence.'),
+    statedOptimumTurnover: z
+      .number()
+      .min(0)
+      .nullable()
+      .describe("One-way turnover between the proposal and its stated method's optimum on the base inputs (0 when the proposal is that optimum); null when that method was not re-optimised."),
+    riskStable: z.boolean().describe("Whether the proposal's volatility band (p95 − p05) is at most a quarter of its base volatility."),
+    simplerMethod: z
+      .string()
+      .nullable()
+      .describe('A method that ignores the return forecasts and lost clearly less certainty-equivalent return at this sample size, else null.'),
+    smallestForecastShift: z
+      .strictObject({ asset: z.string(), direction: z.enum(['up', 'down']), stdErrs: z.number().min(0) })
+      .nullable()
+      .describe("The smallest change of one asset's return forecast, in its standard errors, that changes which assets the optimum holds or caps (from methods[k].forecastSensitivity); null when not available."),
+    assetNotes: z.array(z.string()).describe('A short note per asset (in the order of `assets`; empty when nothing is notable) for the per-asset table.'),
+  })
+  .describe('The headline first: the same sentences in every format.');
+
 export const ReportSchema = z
   .strictObject({
+    summary: ReportSummarySchema,
     meta: ReportMetaSchema,
     assets: z.array(z.string()),
     proposal: z.strictObject({
@@ -170,3 +193,4 @@ export type BaseOptimum = z.infer<typeof BaseOptimumSchema>;
 export type Stat = z.infer<typeof StatSchema>;
 export type OptimizeResponse = z.infer<typeof OptimizeResponseSchema>;
 export type Verdict = z.infer<typeof VerdictSchema>;
+export type ReportSummary = z.infer<typeof ReportSummarySchema>;

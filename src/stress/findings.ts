@@ -3,7 +3,7 @@ import type { MethodReport, Report } from '../schema/report.js';
 type Finding = Report['findings'][number];
 
 /** Methods whose weights do not use the means. */
-const MEAN_FREE_METHODS = new Set(['minimum-variance', 'risk-parity', 'equal-weight', 'inverse-volatility']);
+export const MEAN_FREE_METHODS: ReadonlySet<string> = new Set(['minimum-variance', 'risk-parity', 'equal-weight', 'inverse-volatility']);
 
 const pct = (x: number): string => `${(100 * x).toFixed(1)}%`;
 

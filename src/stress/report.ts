@@ -7,6 +7,7 @@ import { describeOptimum, clean, cleanArray } from './base-optimum.js';
 import { SHORTFALL_LEVEL, type StressAccumulators, type StressPlan } from './engine.js';
 import { expectedShortfall } from './scenarios.js';
 import { findingsFor } from './findings.js';
+import { summarise } from './headline.js';
 import { PERCENTILE_DEFINITION } from './quantiles.js';
 import type { ScalarSummary } from './scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
@@ -129,7 +130,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     warnings.push({ code: 'failed-draws', message: `${failedDraws} of ${plan.draws} draws failed for at least one method; those draws are left out of that method's figures (see meta.failureReasons).` });
   }
   const inputFailed = [...acc.inputFailures.values()].reduce((a, b) => a + b, 0);
-  return {
+  const body: Omit<Report, 'verdict' | 'summary'> = {
     meta: {
       version: meta.version,
       seed: plan.seed,
@@ -155,6 +156,8 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     warnings,
     cautions: [...CAUTIONS],
   };
+  // The headline first in the JSON too (key order is the serialisation order).
+  return { summary: summarise(body), ...body };
 }
 
 function countFailedDraws(plan: StressPlan, acc: StressAccumulators): number {
