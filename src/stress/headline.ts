@@ -136,7 +136,7 @@ export function assetNotes(r: ReportBody, own: MethodReport | undefined): string
     const width = band.p95 - band.p05;
     const share = own.meanDrivenShare.perAsset[i] ?? 0;
     if (width > FINDING_THRESHOLDS.wideBand && share > FINDING_THRESHOLDS.meanDriven) {
-      notes.push(`re-optimised weight set mainly by the return forecasts (${formatPercent(share, 0)} of its variability)`);
+      notes.push('re-optimised weight driven mainly by the return forecasts');
     } else if (width > FINDING_THRESHOLDS.wideBand) {
       notes.push(`re-optimised weight unstable (band ${formatFixed(width * 100, 1)} points wide)`);
     }
@@ -180,4 +180,21 @@ export function summarise(r: ReportBody): ReportSummary {
     smallestForecastShift: shift,
     assetNotes: assetNotes(r, own),
   };
+}
+
+/** Finding codes whose content the headline or the per-asset notes already carry. */
+const SAID_IN_HEADLINE_OR_NOTES: ReadonlySet<string> = new Set([
+  'summary',
+  'turnover',
+  'proposal-volatility-band',
+  'simpler-method-loses-less',
+  'weight-driven-by-mean-forecast',
+  'weight-unstable',
+  'position-rarely-selected',
+  'proposal-outside-band',
+]);
+
+/** The findings a renderer still lists after the headline and the per-asset notes (no sentence said twice). */
+export function otherFindings(r: Pick<Report, 'findings'>): Report['findings'] {
+  return r.findings.filter((f) => !SAID_IN_HEADLINE_OR_NOTES.has(f.code));
 }
