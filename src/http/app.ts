@@ -5,7 +5,8 @@ import { CheckRequestSchema } from '../schema/check.js';
 import { problem, problemsFromZod, statusFor, type Problem } from '../schema/problems.js';
 import { renderReportHtml } from '../render/html.js';
 import { renderReportMarkdown } from '../render/markdown.js';
-import { renderPage } from '../render/page.js';
+import { pageSecurityHeaders, renderPage } from '../render/page.js';
+import { ReportSchema } from '../schema/report.js';
 import { resolveBaseline } from '../stress/baseline.js';
 import { classifyError } from '../stress/errors.js';
 import { checkProposal, optimizeProposal, stressProposal } from '../stress/run.js';
@@ -23,7 +24,7 @@ import { problemResponse, summarise } from './problem.js';
 export function createApp(): Hono {
   const app = new Hono();
 
-  app.get('/', (c) => c.html(renderPage()));
+  app.get('/', async (c) => c.html(renderPage(), 200, await pageSecurityHeaders()));
   app.get('/healthz', (c) => c.json({ status: 'ok', version: VERSION }));
   app.get('/openapi.json', (c) => c.json(openApiDocument()));
   app.get('/v1/examples/demo', (c) => c.json(demoProposal));
@@ -56,6 +57,18 @@ export function createApp(): Hono {
       if (format === 'markdown') return c.text(renderReportMarkdown(report), 200, { 'content-type': 'text/markdown; charset=utf-8' });
       return c.json(report);
     });
+  });
+
+  // A report (e.g. a saved one) as HTML or markdown; `embed=true` leaves out the cautions box for a page that shows them itself.
+  app.post('/v1/render', async (c) => {
+    const format = c.req.query('format') ?? 'html';
+    if (!['html', 'markdown'].includes(format)) return problemResponse(400, `unknown format "${format}"; expected html or markdown`);
+    const body = await readJsonBody(c.req.raw);
+    if (!body.ok) return bodyProblem(body);
+    const parsed = ReportSchema.safeParse(body.value);
+    if (!parsed.success) return invalid(problemsFromZod(parsed.error.issues));
+    if (format === 'markdown') return c.text(renderReportMarkdown(parsed.data), 200, { 'content-type': 'text/markdown; charset=utf-8' });
+    return c.html(renderReportHtml(parsed.data, { embedded: c.req.query('embed') === 'true' }));
   });
 
   app.post('/v1/check', async (c) => {

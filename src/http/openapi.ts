@@ -59,6 +59,21 @@ export function openApiDocument(): Record<string, unknown> {
           responses: { '200': { description: 'report with verdict', content: { 'application/json': { schema: { $ref: '#/components/schemas/Report' } } } }, ...errors },
         },
       },
+      '/v1/render': {
+        post: {
+          summary: 'Render a report as HTML or markdown',
+          parameters: [
+            { name: 'format', in: 'query', required: false, schema: { enum: ['html', 'markdown'], default: 'html' } },
+            { name: 'embed', in: 'query', required: false, description: 'true: HTML without the cautions box, for a page that shows the cautions itself.', schema: { enum: ['true', 'false'] } },
+          ],
+          requestBody: { required: true, content: { 'application/json': { schema: { $ref: '#/components/schemas/Report' } } } },
+          responses: {
+            '200': { description: 'the rendered report', content: { 'text/html': { schema: { type: 'string' } }, 'text/markdown': { schema: { type: 'string' } } } },
+            '400': problem,
+            '413': problem,
+          },
+        },
+      },
       '/v1/examples/demo': { get: { summary: 'The built-in demo proposal', responses: { '200': { description: 'proposal' } } } },
       '/v1/schemas/{name}': {
         get: {
