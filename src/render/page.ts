@@ -50,7 +50,8 @@ button:disabled { opacity: 0.6; cursor: progress; }
 #errors code { font: 13px ui-monospace, Menlo, Consolas, monospace; overflow-wrap: anywhere; }
 #token form { display: flex; flex-wrap: wrap; gap: 8px; align-items: center; }
 #token input { font: inherit; padding: 6px 8px; border: 1px solid #9aa4b5; border-radius: 6px; min-width: 0; flex: 1 1 14em; }
-#result { min-width: 0; }
+#result { min-width: 0; scroll-margin-top: 8px; }
+#errors, #token { scroll-margin-top: 8px; }
 #result > h2 { font-size: 1.25rem; margin: 22px 0 6px; }
 .outcome { display: inline-block; margin-left: 8px; padding: 0 8px; border-radius: 4px; font-size: 0.95rem; vertical-align: middle; }
 .outcome.pass { background: #d9efe0; color: var(--good); }
