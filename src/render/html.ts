@@ -78,7 +78,8 @@ main.report { max-width: 1120px; margin: 0 auto; padding: 24px 20px 48px; }
 .report th { background: var(--soft); font-weight: 600; }
 .report td.num, .report th.num { text-align: right; font-variant-numeric: tabular-nums; }
 .report td.num, .report td:first-child { white-space: nowrap; }
-.report td.notes { min-width: 16em; }
+.report th { white-space: nowrap; }
+.report td:last-child:not(.num) { min-width: 18em; }
 .report tbody tr:nth-child(even) td { background: #fafbfd; }
 .report tr.outside td { background: #fff4ea; }
 .report ul.findings li { margin: 4px 0; }
@@ -87,7 +88,8 @@ main.report { max-width: 1120px; margin: 0 auto; padding: 24px 20px 48px; }
 .report dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 4px 16px; font-size: 0.9rem; }
 .report dl.meta dt { color: var(--muted); }
 .report dl.meta dd { margin: 0; word-break: break-all; }
-.report svg.bands { display: block; width: 100%; max-width: 820px; height: auto; font: 12px system-ui, sans-serif; }
+.report .chart-wrap { overflow-x: auto; max-width: 100%; }
+.report svg.bands { display: block; width: 100%; min-width: 600px; max-width: 820px; height: auto; font: 13px system-ui, sans-serif; }
 .report .legend { display: flex; flex-wrap: wrap; gap: 4px 16px; font-size: 0.85rem; color: var(--muted); margin: 4px 0 8px; }
 .report .legend svg { vertical-align: middle; }
 @media (max-width: 600px) { .report dl.meta { grid-template-columns: 1fr; } main.report { padding: 16px 12px 32px; } }
@@ -320,7 +322,7 @@ function positionsSection(r: Report, pm: MethodReport | undefined): string {
       `${escapeHtml(LABELS.outsideBandShare)}: <strong>${escapeHtml(formatPercentWithError(pm.outsideBandShare.value, pm.outsideBandShare.stdErr))}</strong> of positions.</p>`,
     charted < r.assets.length ? `<p class="note">The chart shows the ${charted} positions furthest outside their band (then the most variable); the table lists all ${r.assets.length}.</p>` : '',
     legend(),
-    bandChartSvg(r, pm),
+    `<div class="chart-wrap">${bandChartSvg(r, pm)}</div>`,
     htmlTable(
       `Per asset. ${escapeHtml(LABELS.proposalPercentile)}: where the proposal falls among the re-optimised weights (0–100). ${escapeHtml(LABELS.meanDrivenShare)}: the share of a weight’s variability caused by noise in the return forecasts. ± se: Monte Carlo standard error of the band edges. Notes use the thresholds in the README.`,
       ['Asset', 'Proposal', 'p05 – p95 ± se', LABELS.proposalPercentile, LABELS.meanDrivenShare, 'Note'],
@@ -490,7 +492,8 @@ export function renderReportHtml(r: Report, options: ReportHtmlOptions = {}): st
     '<body class="report-page">',
     '<main class="report">',
     '<header>',
-    '<h1>Robustness report</h1>',
+    // Embedded, the page's own heading names the result; a second h1 would break its outline.
+    options.embedded ? '' : '<h1>Robustness report</h1>',
     `<p class="sub">Proposal built with ${escapeHtml(methodLabel(r.proposal.method))} · ${r.assets.length} assets · ` +
       `${escapeHtml(formatCount(r.meta.drawsCompleted))} of ${escapeHtml(formatCount(r.meta.drawsRequested))} draws · ${escapeHtml(r.meta.scheme)} · seed ${escapeHtml(String(r.meta.seed))}</p>`,
     '</header>',

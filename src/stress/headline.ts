@@ -63,15 +63,15 @@ function turnover(a: readonly number[], b: readonly number[]): number {
 function stabilitySentence(own: MethodReport, shift: ReportSummary['smallestForecastShift']): string {
   const label = methodLabel(own.method);
   const t = own.turnoverFromProposal;
-  const turnoverText = `a re-optimisation on resampled inputs would trade a median ${formatPercentWithError(t.p50, t.p50StdErr ?? t.stdErr)} of the portfolio`;
+  const turnoverText = `re-optimising on resampled inputs would trade a median ${formatPercentWithError(t.p50, t.p50StdErr ?? t.stdErr)} of the portfolio`;
   if (MEAN_FREE_METHODS.has(own.method.name)) {
-    return `${capitalise(label)} ignores the return forecasts, so the instability of its re-optimised weights comes from the covariance estimates alone; ${turnoverText}.`;
+    return `${capitalise(label)} ignores the return forecasts, so all the variability of its re-optimised weights comes from the covariance estimates; ${turnoverText}.`;
   }
   const share = own.meanDrivenShare;
   const shiftText = shift
     ? `, and moving ${shift.asset}'s return forecast ${shift.direction} by ${formatFixed(shift.stdErrs, 2)} standard errors is enough to change which assets the optimum holds or caps`
     : '';
-  return `Under ${label}, ${formatPercentWithError(share.overall, share.stdErr, 0)} of the instability of the re-optimised weights comes from the return forecasts; ${turnoverText}${shiftText}.`;
+  return `Under ${label}, ${formatPercentWithError(share.overall, share.stdErr, 0)} of the variability of the re-optimised weights comes from the return forecasts; ${turnoverText}${shiftText}.`;
 }
 
 /** The sentence about risk and, for methods that use the forecasts, whether a simpler method would have lost less. */
@@ -80,8 +80,8 @@ function riskSentence(r: ReportBody, own: MethodReport | undefined): { text: str
   const width = r.proposal.volatilityBandWidth;
   const stable = width.value <= HEADLINE_THRESHOLDS.stableVolatilityBand * vol.base;
   const riskText =
-    `Risk is ${stable ? 'stable' : 'not stable'}: the proposal's volatility spans ${formatPercentRange(vol.p05, vol.p95)} (p05–p95), a band ` +
-    `${points(width.value, width.stdErr)} wide around ${formatPercent(vol.base)} on the base inputs`;
+    `Risk is ${stable ? 'stable' : 'not stable'}: the proposal's volatility spans ${formatPercentRange(vol.p05, vol.p95)} (p05–p95, ` +
+    `width ${points(width.value, width.stdErr)}) around ${formatPercent(vol.base)}`;
   const simpler = own ? simplerMethodThatLosesLess(r, own) : null;
   if (!own || MEAN_FREE_METHODS.has(own.method.name)) return { text: `${riskText}.`, stable, simpler: null };
   const ownLoss = own.certaintyEquivalentLoss;
@@ -136,7 +136,7 @@ export function assetNotes(r: ReportBody, own: MethodReport | undefined): string
     const width = band.p95 - band.p05;
     const share = own.meanDrivenShare.perAsset[i] ?? 0;
     if (width > FINDING_THRESHOLDS.wideBand && share > FINDING_THRESHOLDS.meanDriven) {
-      notes.push('re-optimised weight driven mainly by the return forecasts');
+      notes.push('re-optimised weight driven by the forecasts');
     } else if (width > FINDING_THRESHOLDS.wideBand) {
       notes.push(`re-optimised weight unstable (band ${formatFixed(width * 100, 1)} points wide)`);
     }

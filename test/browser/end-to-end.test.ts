@@ -47,7 +47,7 @@ describe.skipIf(!existsSync(CHROMIUM))('reviewer page against the real service',
     await page.locator('#report .answer').waitFor({ timeout: 60_000 });
     const text = await page.locator('#report').innerText();
     expect(text).toContain('domestic-equity');
-    expect(await page.locator('#report .headline').innerText()).toMatch(/of the instability of the re-optimised weights comes from the return forecasts/);
+    expect(await page.locator('#report .headline').innerText()).toMatch(/of the variability of the re-optimised weights comes from the return forecasts/);
     // The cautions show once on the page (above the form), not again inside the report.
     const pageText = await page.locator('body').innerText();
     for (const caution of CAUTIONS) expect(pageText.split(caution).length - 1).toBe(1);

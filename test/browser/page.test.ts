@@ -154,7 +154,7 @@ describe.skipIf(!existsSync(CHROMIUM))('reviewer page in Chromium', () => {
         const firstSection = await page.evaluate(() => document.querySelector('#report section')?.className);
         expect(firstSection).toBe('answer');
         const headline = await page.locator('#report .answer .headline').innerText();
-        expect(headline).toMatch(/of the instability of the re-optimised weights comes from the return forecasts/);
+        expect(headline).toMatch(/of the variability of the re-optimised weights comes from the return forecasts/);
         expect(headline).toMatch(/±/);
 
         // Cautions: once on the page, not repeated by the embedded report.

@@ -51,7 +51,7 @@ describe('POST /v1/render', () => {
     expect(res.headers.get('content-type')).toContain('text/markdown');
     const lines = (await res.text()).split('\n');
     expect(lines[2]).toMatch(/^\*\*Verdict: FAIL\*\*/);
-    expect(lines[4]).toContain('of the instability of the re-optimised weights comes from the return forecasts');
+    expect(lines[4]).toContain('of the variability of the re-optimised weights comes from the return forecasts');
   });
 
   it('names what is wrong with a body that is not a report, and refuses unknown formats', async () => {

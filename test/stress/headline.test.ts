@@ -33,7 +33,7 @@ describe('summarise: the headline', () => {
     const s = summarise(withOwnBase(r, [...r.proposal.weights]));
     expect(s.statedOptimumTurnover).toBe(0);
     expect(s.sentences).toHaveLength(2);
-    expect(s.sentences[0]).toMatch(/^Under mean-variance \(λ = 4\), 78% ± 2% of the instability of the re-optimised weights comes from the return forecasts; a re-optimisation on resampled inputs would trade a median \d+\.\d% ± \d+\.\d% of the portfolio\.$/);
+    expect(s.sentences[0]).toMatch(/^Under mean-variance \(λ = 4\), 78% ± 2% of the variability of the re-optimised weights comes from the return forecasts; re-optimising on resampled inputs would trade a median \d+\.\d% ± \d+\.\d% of the portfolio\.$/);
   });
 
   it('gives the median turnover with the median error when the report has it', () => {
@@ -93,7 +93,7 @@ describe('summarise: the headline', () => {
     const rp = r.methods.find((m) => m.method.name === 'risk-parity')!;
     const s = summarise({ ...r, proposal: { ...r.proposal, method: rp.method, weights: [...rp.base.weights] }, methods: [rp, ...r.methods.filter((m) => m !== rp)] });
     expect(s.statedOptimumTurnover).toBe(0);
-    expect(s.sentences[0]).toMatch(/^Risk-parity ignores the return forecasts, so the instability of its re-optimised weights comes from the covariance estimates alone;/);
+    expect(s.sentences[0]).toMatch(/^Risk-parity ignores the return forecasts, so all the variability of its re-optimised weights comes from the covariance estimates;/);
     expect(s.simplerMethod).toBeNull();
   });
 
