@@ -1,6 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import type { MethodReport, Report } from '../../src/schema/report.js';
 import { HEADLINE_THRESHOLDS, smallestForecastShift, summarise } from '../../src/stress/headline.js';
+import { validateProposal } from '../../src/schema/validate.js';
+import { stressProposal } from '../../src/stress/run.js';
+import { momentsProposal } from '../helpers/proposals.js';
 import { sampleReport } from '../helpers/sample-report.js';
 
 /** The sample report with its own method's base optimum set to `base` (and the rest as is). */
@@ -106,5 +109,23 @@ describe('summarise: the headline', () => {
       expect(s.assetNotes[i].includes('the band, at percentile')).toBe(outside);
     });
     for (const note of s.assetNotes) expect(note).not.toMatch(/depends mainly on its return forecast/);
+  });
+});
+
+describe('summary of a real stress run', () => {
+  it('a 1/N proposal declared as mean-variance: says first how far it is from that optimum, and words findings about the re-optimised weights', async () => {
+    const v = validateProposal(momentsProposal({ weights: [1 / 3, 1 / 3, 1 / 3], resampling: { draws: 200, seed: 'one-over-n' } }));
+    if (!v.ok) throw new Error(JSON.stringify(v.problems));
+    const report = await stressProposal(v.proposal, v.warnings);
+    const base = report.methods[0].base.weights;
+    // One-way turnover ½Σ|1/3 − w*_i| to the mean-variance optimum, worked out here from the report's own base optimum.
+    const hand = base.reduce((s, w) => s + Math.abs(1 / 3 - w), 0) / 2;
+    expect(report.summary.statedOptimumTurnover).toBeCloseTo(hand, 9);
+    expect(report.summary.sentences[0]).toMatch(/^The proposal is not the mean-variance \(λ = 5\) optimum on its own inputs \(it is \d+\.\d% one-way turnover away from it\)/);
+    expect(Object.keys(report)[0]).toBe('summary');
+    for (const f of report.findings) {
+      expect(f.message).not.toMatch(/\(proposed [\d.]+%\) depends/);
+      if (f.code === 'weight-driven-by-mean-forecast') expect(f.message).toMatch(/^The re-optimised weights of .* depend mainly on the return forecasts: .*; the proposed 33\.3% sits at percentile \d+ of them\.$/);
+    }
   });
 });
