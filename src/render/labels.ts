@@ -31,6 +31,7 @@ export const LABELS = {
   bandStdErr: 'Band ± se',
   volatility: 'Volatility',
   statedOptimumTurnover: 'Turnover to stated optimum',
+  forecastBreakEven: 'Forecast break-even in standard errors',
   stdErr: '± se',
 } as const;
 
@@ -49,5 +50,6 @@ export const FIGURES: readonly Figure[] = [
   { key: 'bandStdErr', json: 'methods[k].weights[i].bandStdErr', metric: null },
   { key: 'volatility', json: 'methods[k].volatility, proposal.volatility', metric: null },
   { key: 'statedOptimumTurnover', json: 'summary.statedOptimumTurnover', metric: null },
+  { key: 'forecastBreakEven', json: 'summary.forecastBreakEven.stdErrs (min of methods[k].forecastSensitivity[].shiftUpStdErrs, shiftDownStdErrs)', metric: 'forecast-break-even-std-errs' },
   { key: 'stdErr', json: '…stdErr', metric: null },
 ];

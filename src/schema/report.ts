@@ -200,10 +200,10 @@ export const ReportSummarySchema = z
       .string()
       .nullable()
       .describe('A method that ignores the return forecasts and lost clearly less certainty-equivalent return at this sample size, else null.'),
-    smallestForecastShift: z
+    forecastBreakEven: z
       .strictObject({ asset: z.string(), direction: z.enum(['up', 'down']), stdErrs: z.number().min(0) })
       .nullable()
-      .describe("The smallest change of one asset's return forecast, in its standard errors, that changes which assets the optimum holds or caps (from methods[k].forecastSensitivity); null when not available."),
+      .describe("The smallest change of one asset's return forecast, in its standard errors, that changes which positions of the optimum sit at a bound (the minimum over methods[k].forecastSensitivity of shiftUpStdErrs and shiftDownStdErrs, as the forecast-break-even-std-errs metric); null when not available."),
     assetNotes: z.array(z.string()).describe('A short note per asset (in the order of `assets`; empty when nothing is notable) for the per-asset table.'),
   })
   .describe('The headline first: the same sentences in every format.');

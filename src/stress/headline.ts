@@ -29,19 +29,14 @@ export const HEADLINE_THRESHOLDS = {
 
 type ReportBody = Omit<Report, 'verdict' | 'summary'>;
 
-/** One entry of `methods[k].forecastSensitivity[]` (added by the forecast-sensitivity work); read only when present. */
-interface ForecastSensitivityEntry {
-  readonly asset: string;
-  readonly shiftUpStdErrs: number | null;
-  readonly shiftDownStdErrs: number | null;
-}
-
-/** The smallest forecast change, in standard errors of that forecast, that changes the optimum's pattern; null when the report has no such figure. */
-export function smallestForecastShift(method: MethodReport): ReportSummary['smallestForecastShift'] {
-  const entries = (method as MethodReport & { forecastSensitivity?: readonly ForecastSensitivityEntry[] }).forecastSensitivity;
-  if (!Array.isArray(entries)) return null;
-  let best: ReportSummary['smallestForecastShift'] = null;
-  for (const e of entries) {
+/**
+ * The smallest forecast change, in standard errors of that forecast, that changes the optimum's
+ * active pattern (which positions sit at a bound); null when the report has no such figure. The
+ * same minimum as the `forecast-break-even-std-errs` policy metric, without its cap.
+ */
+export function forecastBreakEven(method: MethodReport): ReportSummary['forecastBreakEven'] {
+  let best: ReportSummary['forecastBreakEven'] = null;
+  for (const e of method.forecastSensitivity ?? []) {
     for (const [direction, value] of [
       ['up', e.shiftUpStdErrs],
       ['down', e.shiftDownStdErrs],
@@ -60,7 +55,7 @@ function turnover(a: readonly number[], b: readonly number[]): number {
 }
 
 /** The sentence about the re-optimised weights: how much the forecasts drive them, the median turnover, the smallest decisive forecast change. */
-function stabilitySentence(own: MethodReport, shift: ReportSummary['smallestForecastShift']): string {
+function stabilitySentence(own: MethodReport, shift: ReportSummary['forecastBreakEven']): string {
   const label = methodLabel(own.method);
   const t = own.turnoverFromProposal;
   const turnoverText = `re-optimising on resampled inputs would trade a median ${formatPercentWithError(t.p50, t.p50StdErr ?? t.stdErr)} of the portfolio`;
@@ -69,7 +64,7 @@ function stabilitySentence(own: MethodReport, shift: ReportSummary['smallestFore
   }
   const share = own.meanDrivenShare;
   const shiftText = shift
-    ? `, and moving ${shift.asset}'s return forecast ${shift.direction} by ${formatFixed(shift.stdErrs, 2)} standard errors is enough to change which assets the optimum holds or caps`
+    ? `, and moving ${shift.asset}'s return forecast ${shift.direction} by ${formatFixed(shift.stdErrs, 2)} standard errors already changes which positions of the optimum sit at a bound`
     : '';
   return `Under ${label}, ${formatPercentWithError(share.overall, share.stdErr, 0)} of the variability of the re-optimised weights comes from the return forecasts; ${turnoverText}${shiftText}.`;
 }
@@ -167,7 +162,7 @@ export function summarise(r: ReportBody): ReportSummary {
       );
     }
   }
-  const shift = own ? smallestForecastShift(own) : null;
+  const shift = own ? forecastBreakEven(own) : null;
   if (own) sentences.push(stabilitySentence(own, shift));
   const risk = riskSentence(r, own);
   sentences.push(risk.text);
@@ -177,7 +172,7 @@ export function summarise(r: ReportBody): ReportSummary {
     statedOptimumTurnover,
     riskStable: risk.stable,
     simplerMethod: risk.simpler ? risk.simpler.method.name : null,
-    smallestForecastShift: shift,
+    forecastBreakEven: shift,
     assetNotes: assetNotes(r, own),
   };
 }

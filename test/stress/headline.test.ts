@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import type { MethodReport, Report } from '../../src/schema/report.js';
-import { HEADLINE_THRESHOLDS, smallestForecastShift, summarise } from '../../src/stress/headline.js';
+import type { ForecastSensitivity, MethodReport, Report } from '../../src/schema/report.js';
+import { HEADLINE_THRESHOLDS, forecastBreakEven, summarise } from '../../src/stress/headline.js';
 import { validateProposal } from '../../src/schema/validate.js';
 import { stressProposal } from '../../src/stress/run.js';
 import { momentsProposal } from '../helpers/proposals.js';
@@ -49,17 +49,25 @@ describe('summarise: the headline', () => {
 
   it('names the smallest forecast change in standard errors only when forecastSensitivity is present', () => {
     const r = sampleReport({ withVerdict: false });
-    expect(summarise(r).smallestForecastShift).toBeNull();
+    expect(summarise(r).forecastBreakEven).toBeNull();
     expect(summarise(r).headline).not.toContain('standard errors');
-    const sensitivity = [
-      { asset: r.assets[0], stdErr: 0.01, shiftUp: 0.02, shiftDown: null, shiftUpStdErrs: 2.0, shiftDownStdErrs: null, turnoverPerStdErr: 0.01 },
-      { asset: r.assets[3], stdErr: 0.01, shiftUp: 0.01, shiftDown: -0.004, shiftUpStdErrs: 1.0, shiftDownStdErrs: 0.4, turnoverPerStdErr: 0.02 },
-      { asset: r.assets[5], stdErr: 0.01, shiftUp: null, shiftDown: null, shiftUpStdErrs: null, shiftDownStdErrs: null, turnoverPerStdErr: 0 },
-    ];
-    const own = { ...r.methods[0], forecastSensitivity: sensitivity } as MethodReport;
-    expect(smallestForecastShift(own)).toEqual({ asset: r.assets[3], direction: 'down', stdErrs: 0.4 });
+    const row = (asset: string, up: number | null, down: number | null): ForecastSensitivity => ({
+      asset,
+      stdErr: 0.01,
+      shiftUp: up === null ? null : up * 0.01,
+      shiftDown: down === null ? null : down * 0.01,
+      shiftUpStdErrs: up,
+      shiftDownStdErrs: down,
+      turnoverPerStdErr: { up: 0.01, down: 0.01 },
+      changesUp: [],
+      changesDown: [],
+      shiftTolerance: 0,
+    });
+    const sensitivity = [row(r.assets[0], 2.0, null), row(r.assets[3], 1.0, 0.4), row(r.assets[5], null, null)];
+    const own: MethodReport = { ...r.methods[0], forecastSensitivity: sensitivity };
+    expect(forecastBreakEven(own)).toEqual({ asset: r.assets[3], direction: 'down', stdErrs: 0.4 });
     const s = summarise({ ...r, methods: [own, ...r.methods.slice(1)] });
-    expect(s.headline).toContain(`moving ${r.assets[3]}'s return forecast down by 0.40 standard errors is enough to change which assets the optimum holds or caps`);
+    expect(s.headline).toContain(`moving ${r.assets[3]}'s return forecast down by 0.40 standard errors already changes which positions of the optimum sit at a bound`);
   });
 
   it('calls risk stable only when the volatility band is at most a quarter of the base volatility', () => {
