@@ -1,4 +1,4 @@
-import { bandPosition, formatFixed, formatPercent, formatPercentileRank, formatPercentRange, formatPercentWithError, methodLabel, proposalMethod } from '../render/format.js';
+import { bandPosition, formatFixed, formatPercent, formatPercentileRank, formatPercentRange, methodLabel, proposalMethod } from '../render/format.js';
 import type { MethodReport, Report, ReportSummary } from '../schema/report.js';
 import { clean } from './base-optimum.js';
 import { FINDING_THRESHOLDS, MEAN_FREE_METHODS } from './findings.js';
@@ -58,7 +58,7 @@ function turnover(a: readonly number[], b: readonly number[]): number {
 function stabilitySentence(own: MethodReport, shift: ReportSummary['forecastBreakEven']): string {
   const label = methodLabel(own.method);
   const t = own.turnoverFromProposal;
-  const turnoverText = `re-optimising on resampled inputs would trade a median ${formatPercentWithError(t.p50, t.p50StdErr ?? t.stdErr)} of the portfolio`;
+  const turnoverText = `re-optimising on resampled inputs would trade a median ${percentWithError(t.p50, t.p50StdErr ?? t.stdErr)} of the portfolio`;
   if (MEAN_FREE_METHODS.has(own.method.name)) {
     return `${capitalise(label)} ignores the return forecasts, so all the variability of its re-optimised weights comes from the covariance estimates; ${turnoverText}.`;
   }
@@ -66,7 +66,7 @@ function stabilitySentence(own: MethodReport, shift: ReportSummary['forecastBrea
   const shiftText = shift
     ? `, and moving ${shift.asset}'s return forecast ${shift.direction} by ${formatFixed(shift.stdErrs, 2)} standard errors already changes which positions of the optimum sit at a bound`
     : '';
-  return `Under ${label}, ${formatPercentWithError(share.overall, share.stdErr, 0)} of the variability of the re-optimised weights comes from the return forecasts; ${turnoverText}${shiftText}.`;
+  return `Under ${label}, ${percentWithError(share.overall, share.stdErr, 0)} of the variability of the re-optimised weights comes from the return forecasts; ${turnoverText}${shiftText}.`;
 }
 
 /** The sentence about risk and, for methods that use the forecasts, whether a simpler method would have lost less. */
@@ -89,14 +89,32 @@ function riskSentence(r: ReportBody, own: MethodReport | undefined): { text: str
   return { text: `${riskText}${lossText}.`, stable, simpler };
 }
 
+/**
+ * Decimals so a non-zero error does not print as 0 (at most two more than asked): a reader told
+ * "± 0.0" would take the figure as exact.
+ */
+function decimalsFor(scaledStdErr: number, decimals: number): number {
+  let d = decimals;
+  while (d < decimals + 2 && scaledStdErr > 0 && Number(scaledStdErr.toFixed(d)) === 0) d++;
+  return d;
+}
+
+/** A percentage with its Monte Carlo error, e.g. `86% ± 1%`, `1.4 ± 0.03`. */
+function percentWithError(value: number, stdErr: number, decimals = 1): string {
+  const d = decimalsFor(stdErr * 100, decimals);
+  return `${formatPercent(value, d)} ± ${formatPercent(stdErr, d)}`;
+}
+
 /** A width of percentages in percentage points with its error: `2.5 ± 0.1 points`. */
 function points(value: number, stdErr: number): string {
-  return `${formatFixed(value * 100, 1)} ± ${formatFixed(stdErr * 100, 1)} points`;
+  const d = decimalsFor(stdErr * 100, 1);
+  return `${formatFixed(value * 100, d)} ± ${formatFixed(stdErr * 100, d)} points`;
 }
 
 /** An annual loss in basis points with its error: `61 ± 2 bp`. */
 function basisPoints(stat: { mean: number; stdErr: number }): string {
-  return `${formatFixed(stat.mean * 10_000, 0)} ± ${formatFixed(stat.stdErr * 10_000, 0)} bp`;
+  const d = decimalsFor(stat.stdErr * 10_000, 0);
+  return `${formatFixed(stat.mean * 10_000, d)} ± ${formatFixed(stat.stdErr * 10_000, d)} bp`;
 }
 
 function hasSimplerMethods(r: ReportBody): boolean {

@@ -80,6 +80,13 @@ describe('summarise: the headline', () => {
     expect(at(0.26 * base).headline).toContain('Risk is not stable:');
   });
 
+  it('never prints a non-zero error as ± 0: it adds decimals instead', () => {
+    const r = sampleReport({ withVerdict: false });
+    const s = summarise({ ...r, proposal: { ...r.proposal, volatilityBandWidth: { value: 0.01412, stdErr: 0.00031 } } });
+    expect(s.headline).toContain('width 1.41 ± 0.03 points');
+    expect(s.headline).not.toMatch(/± 0(\.0+)?(%| points| bp)/);
+  });
+
   it('names a simpler method only when it loses less by more than two combined standard errors', () => {
     const r = sampleReport({ withVerdict: false });
     const own = r.methods[0];
