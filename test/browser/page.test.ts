@@ -258,6 +258,11 @@ describe.skipIf(!existsSync(CHROMIUM))('reviewer page in Chromium', () => {
         await page.locator('#errors').waitFor({ state: 'visible' });
         expect(await page.locator('#errors h2').textContent()).toBe('The proposal is not valid JSON');
         expect(await page.locator('#result').innerText()).toBe('');
+        // The message is brought into view and focused, as a result would be.
+        expect(await page.evaluate(() => document.activeElement?.id)).toBe('errors');
+        const box = await page.locator('#errors').boundingBox();
+        expect(box!.y).toBeGreaterThanOrEqual(0);
+        expect(box!.y).toBeLessThan(viewport.height);
         // A problem+json answer lists each bad field with its JSON path.
         await page.fill('#proposal', JSON.stringify({ ...DEMO, weights: [1] }));
         await page.click('#run-stress');

@@ -146,6 +146,16 @@ describe('renderReportTable', () => {
     expect(block[block.length - 1]).toBe('  … 10 more finding(s); the markdown and HTML reports list them all.');
   });
 
+  it('opens with the headline sentences from the core, before any table', () => {
+    const r = sampleReport();
+    const out = renderReportTable(r).replace(/\s+/g, ' ');
+    const at = out.indexOf(r.summary.sentences[0]);
+    expect(at).toBeGreaterThan(0);
+    expect(at).toBeLessThan(out.indexOf('Verdict:'));
+    expect(at).toBeLessThan(out.indexOf('Positions against'));
+    for (const sentence of r.summary.sentences) expect(out).toContain(sentence);
+  });
+
   it('has no verdict lines when the report has no verdict', () => {
     expect(renderReportTable(sampleReport({ withVerdict: false }))).not.toMatch(/Verdict/);
   });
