@@ -202,7 +202,12 @@ export const ReportSummarySchema = z
       .nullable()
       .describe('A method that ignores the return forecasts and lost clearly less certainty-equivalent return at this sample size, else null.'),
     forecastBreakEven: z
-      .strictObject({ asset: z.string(), direction: z.enum(['up', 'down']), stdErrs: z.number().min(0) })
+      .strictObject({
+        asset: z.string(),
+        direction: z.enum(['up', 'down']),
+        stdErrs: z.number().min(0),
+        turnoverPerStdErr: z.number().min(0).describe('One-way turnover of the optimum when that forecast moves one standard error in that direction (from turnoverPerStdErr).'),
+      })
       .nullable()
       .describe("The smallest change of one asset's return forecast, in its standard errors, that changes which positions of the optimum sit at a bound (the minimum over methods[k].forecastSensitivity of shiftUpStdErrs and shiftDownStdErrs, as the forecast-break-even-std-errs metric); null when not available."),
     assetNotes: z.array(z.string()).describe('A short note per asset (in the order of `assets`; empty when nothing is notable) for the per-asset table.'),

@@ -41,7 +41,9 @@ export function forecastBreakEven(method: MethodReport): ReportSummary['forecast
       ['up', e.shiftUpStdErrs],
       ['down', e.shiftDownStdErrs],
     ] as const) {
-      if (typeof value === 'number' && Number.isFinite(value) && (best === null || value < best.stdErrs)) best = { asset: e.asset, direction, stdErrs: value };
+      if (typeof value === 'number' && Number.isFinite(value) && (best === null || value < best.stdErrs)) {
+        best = { asset: e.asset, direction, stdErrs: value, turnoverPerStdErr: e.turnoverPerStdErr[direction] };
+      }
     }
   }
   return best;
@@ -63,8 +65,10 @@ function stabilitySentence(own: MethodReport, shift: ReportSummary['forecastBrea
     return `${capitalise(label)} ignores the return forecasts, so all the variability of its re-optimised weights comes from the covariance estimates; ${turnoverText}.`;
   }
   const share = own.meanDrivenShare;
+  // The size of the change matters as much as how soon it comes: a one-standard-error move says how much would trade.
   const shiftText = shift
-    ? `, and moving ${shift.asset}'s return forecast ${shift.direction} by ${formatFixed(shift.stdErrs, 2)} standard errors already changes which positions of the optimum sit at a bound`
+    ? `, and moving ${shift.asset}'s return forecast ${shift.direction} by ${formatFixed(shift.stdErrs, 2)} standard errors already changes which positions of the optimum sit at a bound ` +
+      `(a one-standard-error move would trade ${formatPercent(shift.turnoverPerStdErr)})`
     : '';
   return `Under ${label}, ${percentWithError(share.overall, share.stdErr, 0)} of the variability of the re-optimised weights comes from the return forecasts; ${turnoverText}${shiftText}.`;
 }

@@ -58,16 +58,16 @@ describe('summarise: the headline', () => {
       shiftDown: down === null ? null : down * 0.01,
       shiftUpStdErrs: up,
       shiftDownStdErrs: down,
-      turnoverPerStdErr: { up: 0.01, down: 0.01 },
+      turnoverPerStdErr: { up: 0.01, down: 0.052 },
       changesUp: [],
       changesDown: [],
       shiftTolerance: 0,
     });
     const sensitivity = [row(r.assets[0], 2.0, null), row(r.assets[3], 1.0, 0.4), row(r.assets[5], null, null)];
     const own: MethodReport = { ...r.methods[0], forecastSensitivity: sensitivity };
-    expect(forecastBreakEven(own)).toEqual({ asset: r.assets[3], direction: 'down', stdErrs: 0.4 });
+    expect(forecastBreakEven(own)).toEqual({ asset: r.assets[3], direction: 'down', stdErrs: 0.4, turnoverPerStdErr: 0.052 });
     const s = summarise({ ...r, methods: [own, ...r.methods.slice(1)] });
-    expect(s.headline).toContain(`moving ${r.assets[3]}'s return forecast down by 0.40 standard errors already changes which positions of the optimum sit at a bound`);
+    expect(s.headline).toContain(`moving ${r.assets[3]}'s return forecast down by 0.40 standard errors already changes which positions of the optimum sit at a bound (a one-standard-error move would trade 5.2%)`);
   });
 
   it('calls risk stable only when the volatility band is at most a quarter of the base volatility', () => {
