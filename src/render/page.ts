@@ -537,12 +537,11 @@ export function pageContentSecurityPolicy(): Promise<string> {
   return pagePolicy;
 }
 
-/** Headers for the page itself (the service may add more; these are the page's own). */
+/** Headers for the page itself (the service's edge adds the rest: nosniff again, Referrer-Policy, Cache-Control). */
 export async function pageSecurityHeaders(): Promise<Record<string, string>> {
   return {
     'content-security-policy': await pageContentSecurityPolicy(),
     'x-content-type-options': 'nosniff',
     'x-frame-options': 'DENY',
-    'cache-control': 'no-store',
   };
 }

@@ -6,7 +6,7 @@ import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
-import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
+import { checkLimits, createAccumulators, effectiveMaxWorkUnits, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type WorkLimits } from './engine.js';
 import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
 import { pairedStdErr, type StressRun } from './paired.js';
@@ -25,19 +25,21 @@ export interface RunOptions {
   readonly onProgress?: (done: number, total: number) => void;
   /** Milliseconds since some origin; only used for meta.elapsedMs. */
   readonly clock?: () => number;
+  /** Limits the deployment lowers (WOBBLE_MAX_WORK on the service); the built-in limits otherwise. */
+  readonly limits?: WorkLimits;
 }
 
 /** Share of draws the proposal's own method may fail in before the report is refused. */
 export const MAX_FAILED_SHARE = 0.5;
 
-export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0): Promise<OptimizeResponse> {
+export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0, limits: WorkLimits = {}): Promise<OptimizeResponse> {
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal));
+  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal), limits);
   const problem = prepareProblem(proposal, warnings);
   const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(problem, scenarioKelly);
-  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits);
+  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWorkUnits(limits));
   return {
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
@@ -73,7 +75,7 @@ function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions):
 export async function stressRun(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<{ report: Omit<Report, 'verdict'>; run: StressRun }> {
   const clock = options.clock ?? (() => 0);
   const started = clock();
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed });
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, limits: options.limits });
   const acc = computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
@@ -106,6 +108,7 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     draws: candidate.run.plan.draws,
     seed: candidate.run.plan.seed,
     clock: options.clock,
+    limits: options.limits,
   });
   const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
   return { ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) };

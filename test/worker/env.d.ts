@@ -1,5 +1,12 @@
 declare module 'cloudflare:test' {
+  interface RateLimit {
+    limit(options: { key: string }): Promise<{ success: boolean }>;
+  }
   // eslint-disable-next-line @typescript-eslint/consistent-type-definitions
-  interface ProvidedEnv {}
+  interface ProvidedEnv {
+    WOBBLE_RATE_LIMITER: RateLimit;
+    TIGHT_RATE_LIMITER: RateLimit;
+  }
   export const SELF: { fetch(input: string | Request, init?: RequestInit): Promise<Response> };
+  export const env: ProvidedEnv;
 }
