@@ -8,7 +8,7 @@ import { renderOptimizeTable, renderReportTable } from '../render/table.js';
 import { problemsFromZod } from '../schema/problems.js';
 import { PolicySchema, type Policy, type Proposal } from '../schema/proposal.js';
 import type { Report } from '../schema/report.js';
-import { validateProposal, type Warning } from '../schema/validate.js';
+import { validateProposal, type ValidationContext, type Warning } from '../schema/validate.js';
 import { resolveBaseline } from '../stress/baseline.js';
 import { classifyError } from '../stress/errors.js';
 import { checkProposal, optimizeProposal, stressProposal, type RunOptions } from '../stress/run.js';
@@ -115,9 +115,9 @@ function requireFormat(format: string | undefined, allowed: string[], fallback: 
 }
 
 /** Reads and validates a proposal; prints problems and returns undefined when invalid. */
-function loadProposal(file: string): { proposal: Proposal; warnings: Warning[] } | undefined {
+function loadProposal(file: string, context: ValidationContext = {}): { proposal: Proposal; warnings: Warning[] } | undefined {
   const source = file === '-' ? 'stdin' : file;
-  const validation = validateProposal(parseJson(readInput(file), source));
+  const validation = validateProposal(parseJson(readInput(file), source), context);
   if (!validation.ok) {
     process.stderr.write(`${source}: ${validation.problems.length} problem${validation.problems.length === 1 ? '' : 's'}\n${summarise(validation.problems)}\n`);
     return undefined;
@@ -165,7 +165,7 @@ function progressBar(): ((done: number, total: number) => void) | undefined {
 
 async function optimizeCommand(file: string, values: Options): Promise<number> {
   const format = requireFormat(values.format, ['json', 'table'], 'json');
-  const loaded = loadProposal(file);
+  const loaded = loadProposal(file, { job: 'optimize' });
   if (!loaded) return EXIT.usage;
   return guarded(async () => {
     const result = await optimizeProposal(loaded.proposal, loaded.warnings, () => performance.now());
@@ -191,10 +191,11 @@ function renderReport(report: Report, format: string): string {
 
 async function stressCommand(file: string, values: Options): Promise<number> {
   const format = requireFormat(values.format, ['json', 'markdown', 'html', 'table'], 'json');
-  const loaded = loadProposal(file);
+  const options = runOptions(values);
+  const loaded = loadProposal(file, { job: 'stress', draws: options.draws });
   if (!loaded) return EXIT.usage;
   return guarded(async () => {
-    const report = await stressProposal(loaded.proposal, loaded.warnings, runOptions(values));
+    const report = await stressProposal(loaded.proposal, loaded.warnings, options);
     writeOutput(renderReport(report, format), values.out);
     return EXIT.ok;
   });
@@ -202,7 +203,7 @@ async function stressCommand(file: string, values: Options): Promise<number> {
 
 async function checkCommand(file: string, values: Options): Promise<number> {
   const format = requireFormat(values.format, ['json', 'markdown', 'junit', 'table', 'html'], 'json');
-  const loaded = loadProposal(file);
+  const loaded = loadProposal(file, { job: 'check', draws: runOptions(values).draws });
   if (!loaded) return EXIT.usage;
   let policy = loaded.proposal.policy;
   if (values.policy) {

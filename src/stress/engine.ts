@@ -17,7 +17,7 @@ import {
 } from '../resample/parametric.js';
 import { createDrawStream, STREAM_PURPOSE, type Seed } from '../resample/streams.js';
 import { LIMITS } from '../schema/limits.js';
-import type { MethodSpec, Proposal } from '../schema/proposal.js';
+import type { Proposal } from '../schema/proposal.js';
 import type { Warning } from '../schema/validate.js';
 import { ChannelVarianceAccumulator } from './channel-variance.js';
 import { estimateFromHistory } from './estimate-inputs.js';
@@ -27,7 +27,8 @@ import { methodList, prepareProblem, type PreparedProblem } from './problem.js';
 import { ScalarAccumulator } from './scalar-accumulator.js';
 import { difference, expectedShortfall, shiftedRows } from './scenarios.js';
 import { WeightAccumulator } from './weight-accumulator.js';
-import { estimateWork, type WorkShape } from './work-estimate.js';
+import { effectiveMaxWork, priceRequest, type CostOptions } from '../cost/check.js';
+import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
 
 /** A request over a service limit (HTTP 413). */
 export class LimitError extends Error {
@@ -69,7 +70,7 @@ export interface StressPlan {
   /** Base scenario rows (history moved to the base mean), for scenario Kelly. */
   readonly baseScenarios?: Float64Array;
   readonly workUnits: number;
-  /** The work limit in force for this request (the built-in one, or lower on a deployment). */
+  /** The work budget in force for this request (the deployment may lower the built-in one). */
   readonly maxWorkUnits: number;
   readonly warnings: Warning[];
 }
@@ -96,75 +97,31 @@ export interface StressAccumulators {
   readonly inputFailures: Map<string, number>;
 }
 
-/** The shape of a request's work, read from the proposal before anything is computed. */
-function workShape(proposal: Proposal, scheme: Scheme, methods: readonly MethodSpec[]): WorkShape {
-  const inputs = proposal.inputs;
-  const n = proposal.assets.length;
-  const history = 'returns' in inputs;
-  const estimated = proposal.estimation?.factorModel ?? 'none';
-  let factors = 0;
-  if ('factorModel' in inputs) factors = inputs.factorModel.factors.length;
-  else if (history && estimated === 'regression') factors = inputs.factors?.names.length ?? 0;
-  else if (history && estimated === 'pca') factors = proposal.estimation?.pcaFactors ?? 1;
-  return {
-    n,
-    rows: history ? inputs.returns.length : 0,
-    factors,
-    pca: estimated === 'pca',
-    scenarioKelly: history && scheme !== 'parametric' && methods.some((m) => m.name === 'kelly'),
-  };
-}
-
 /**
- * Limits a deployment may lower below LIMITS (never raise): a service on a plan with a small CPU
- * allowance sets a smaller work budget so it refuses with 413 instead of being killed mid-request.
+ * Prices the request (src/cost) before any estimation or solve, so an oversized request is
+ * refused at once (413) instead of running out of CPU or memory mid-way. Returns the estimated
+ * work. `baseline`: the other proposal of a check, run with the same draws.
  */
-export interface WorkLimits {
-  readonly maxWorkUnits?: number;
-}
-
-/** The work budget in force: the smaller of the built-in limit and the deployment's. */
-export function effectiveMaxWorkUnits(limits: WorkLimits = {}): number {
-  const lowered = limits.maxWorkUnits;
-  return lowered !== undefined && Number.isFinite(lowered) && lowered > 0 ? Math.min(lowered, LIMITS.maxWorkUnits) : LIMITS.maxWorkUnits;
-}
-
-/**
- * Checks the request against the count limits before any estimation or solve, so an oversized
- * request is refused at once (413) instead of running out of CPU or memory mid-way. Returns the
- * estimated work. (Optimize checks one draw: it counts the base solves, in every channel, which
- * over-counts a little.)
- */
-export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], limits: WorkLimits = {}): number {
+export function checkLimits(job: Job, proposal: Proposal, draws: number, options: CostOptions & { baseline?: Proposal } = {}): number {
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
-  const shape = workShape(proposal, scheme, methods);
-  const workUnits = estimateWork(methods, draws, shape);
-  const maxWorkUnits = effectiveMaxWorkUnits(limits);
-  if (workUnits > maxWorkUnits) {
-    throw new LimitError(
-      'maxWorkUnits',
-      maxWorkUnits,
-      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${maxWorkUnits.toExponential(1)} (maxWorkUnits${maxWorkUnits < LIMITS.maxWorkUnits ? ', lowered on this deployment' : ''}); use fewer draws (at most about ${Math.max(1, Math.floor((draws * maxWorkUnits) / workUnits))}), fewer methods in compare, or a factor model`,
-    );
-  }
-  const stored = (methods.length + 1) * draws * shape.n;
-  if (stored > LIMITS.maxStoredValues) {
-    throw new LimitError(
-      'maxStoredValues',
-      LIMITS.maxStoredValues,
-      `this request would keep ${stored} numbers in memory (draws × assets × (methods + 1)), over the limit of ${LIMITS.maxStoredValues} (maxStoredValues); use at most ${Math.floor(LIMITS.maxStoredValues / ((methods.length + 1) * shape.n))} draws`,
-    );
-  }
-  return workUnits;
+  const shape = requestShape(proposal, methodList(proposal), draws);
+  const baseline = options.baseline ? requestShape(options.baseline, methodList(options.baseline), draws) : undefined;
+  const verdict = priceRequest(job, shape, { maxWork: options.maxWork, baseline });
+  if (verdict.over) throw new LimitError(verdict.over.limit, verdict.over.value, verdict.over.message);
+  return verdict.work;
 }
 
-export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; limits?: WorkLimits } = {}): StressPlan {
-  const draws = overrides.draws ?? proposal.resampling?.draws ?? 500;
+export function planStress(
+  proposal: Proposal,
+  warnings: Warning[],
+  overrides: { draws?: number; seed?: Seed; maxWork?: number } = {},
+): StressPlan {
+  const draws = overrides.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.limits);
+  const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork });
 
   const problem = prepareProblem(proposal, warnings);
   const history = problem.history;
@@ -200,7 +157,7 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
     parametric,
     baseScenarios,
     workUnits,
-    maxWorkUnits: effectiveMaxWorkUnits(overrides.limits),
+    maxWorkUnits: effectiveMaxWork({ maxWork: overrides.maxWork }),
     warnings: planWarnings,
   };
 }

@@ -108,7 +108,8 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     volatilityBandWidth: { value: finite(vol.p95 - vol.p05), stdErr: finite(vol.bandWidthStdErr) },
     riskContributions: shares.perAsset.map((s, i) => ({
       asset: p.assets[i],
-      base: clean(baseRisk.contributionShares[i]),
+      // 0 for a zero-variance proposal (0/0): no asset contributes risk.
+      base: finite(baseRisk.contributionShares[i]),
       p05: finite(s.p05),
       p50: finite(s.p50),
       p95: finite(s.p95),

@@ -6,8 +6,11 @@ import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
-import { checkLimits, createAccumulators, effectiveMaxWorkUnits, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type WorkLimits } from './engine.js';
-import { methodList, prepareProblem } from './problem.js';
+import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
+import { prepareProblem } from './problem.js';
+import { DEFAULT_DRAWS } from '../cost/request-shape.js';
+import { assertFiniteReport } from './finite-guard.js';
+import { effectiveMaxWork } from '../cost/check.js';
 import { buildReport } from './report.js';
 import { pairedStdErr, type StressRun } from './paired.js';
 import { judge } from './verdict.js';
@@ -25,22 +28,32 @@ export interface RunOptions {
   readonly onProgress?: (done: number, total: number) => void;
   /** Milliseconds since some origin; only used for meta.elapsedMs. */
   readonly clock?: () => number;
-  /** Limits the deployment lowers (WOBBLE_MAX_WORK on the service); the built-in limits otherwise. */
-  readonly limits?: WorkLimits;
+  /**
+   * A lower work maximum than LIMITS.maxWorkUnits for this deployment (counted units of
+   * src/cost/work-model.ts; larger values are capped at the limit). The HTTP layer passes the
+   * operator's setting here.
+   */
+  readonly maxWork?: number;
 }
 
 /** Share of draws the proposal's own method may fail in before the report is refused. */
 export const MAX_FAILED_SHARE = 0.5;
 
-export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0, limits: WorkLimits = {}): Promise<OptimizeResponse> {
+export async function optimizeProposal(
+  proposal: Proposal,
+  warnings: Warning[],
+  clockOrOptions: (() => number) | Pick<RunOptions, 'clock' | 'maxWork'> = {},
+): Promise<OptimizeResponse> {
+  const options = typeof clockOrOptions === 'function' ? { clock: clockOrOptions } : clockOrOptions;
+  const clock = options.clock ?? (() => 0);
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal), limits);
+  const workUnits = checkLimits('optimize', proposal, 1, { maxWork: options.maxWork });
   const problem = prepareProblem(proposal, warnings);
   const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(problem, scenarioKelly);
-  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWorkUnits(limits));
-  return {
+  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWork({ maxWork: options.maxWork }));
+  return assertFiniteReport({
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
     methods: problem.methods.map((spec, k) => {
@@ -50,7 +63,7 @@ export async function optimizeProposal(proposal: Proposal, warnings: Warning[], 
     }),
     warnings: [...problem.warnings, ...solved.warnings, ...sensitivity.warnings],
     cautions: [...CAUTIONS],
-  };
+  });
 }
 
 function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions): StressAccumulators {
@@ -75,7 +88,7 @@ function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions):
 export async function stressRun(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<{ report: Omit<Report, 'verdict'>; run: StressRun }> {
   const clock = options.clock ?? (() => 0);
   const started = clock();
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, limits: options.limits });
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, maxWork: options.maxWork });
   const acc = computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
@@ -84,7 +97,8 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
     );
   }
   const digest = await inputDigest(proposal);
-  return { report: buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) }), run: { plan, acc } };
+  const report = assertFiniteReport(buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) }));
+  return { report, run: { plan, acc } };
 }
 
 export async function stressProposal(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<Omit<Report, 'verdict'>> {
@@ -100,16 +114,20 @@ export type Baseline = { readonly kind: 'report'; readonly report: Omit<Report, 
  * baseline report only the two reports' errors are available (combined conservatively).
  */
 export async function checkProposal(proposal: Proposal, warnings: Warning[], policy: Policy, baseline: Baseline | undefined, options: RunOptions = {}): Promise<Report> {
+  // Both runs are priced together before either starts: a check against a baseline proposal does
+  // the work (and holds the memory) of two stress runs.
+  const draws = options.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
+  checkLimits('check', proposal, draws, { maxWork: options.maxWork, baseline: baseline?.kind === 'proposal' ? baseline.proposal : undefined });
   const candidate = await stressRun(proposal, warnings, options);
   if (!baseline || baseline.kind === 'report') {
-    return { ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report) };
+    return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report) });
   }
   const base = await stressRun(baseline.proposal, baseline.warnings, {
     draws: candidate.run.plan.draws,
     seed: candidate.run.plan.seed,
     clock: options.clock,
-    limits: options.limits,
+    maxWork: options.maxWork,
   });
   const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
-  return { ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) };
+  return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) });
 }
