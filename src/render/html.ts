@@ -15,6 +15,8 @@ import {
   proposalMethod,
   trimNumber,
 } from './format.js';
+import { LABELS } from './labels.js';
+import { otherFindings } from '../stress/headline.js';
 
 /**
  * The report as one self-contained HTML document: inline CSS and inline SVG, no scripts, no
@@ -38,48 +40,64 @@ function join(parts: readonly string[]): string {
   return parts.join('\n');
 }
 
+/**
+ * Every rule is scoped to `.report` so the reviewer page can carry the same stylesheet next to
+ * its own (one inline style block, allowed by its hash in the page's Content-Security-Policy).
+ */
 export const REPORT_CSS = `
-:root { color-scheme: light; --ink: #1d2433; --muted: #566176; --line: #d7dce5; --soft: #f4f6fa; --accent: #1f4e8c; --warn: #9a4a00; --bad: #a4262c; --good: #1b6b3a; }
-* { box-sizing: border-box; }
-body { margin: 0; font: 15px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif; color: var(--ink); background: #fff; }
-main { max-width: 1120px; margin: 0 auto; padding: 24px 20px 48px; }
-h1 { font-size: 1.6rem; margin: 0 0 4px; }
-h2 { font-size: 1.2rem; margin: 32px 0 8px; padding-bottom: 4px; border-bottom: 1px solid var(--line); }
-h3 { font-size: 1.05rem; margin: 20px 0 6px; }
-p { margin: 6px 0; }
-.sub, .note { color: var(--muted); }
-.note { font-size: 0.9rem; }
-.cautions { border: 1px solid #e2c27a; background: #fff8e6; border-radius: 6px; padding: 10px 16px; margin: 16px 0; }
-.cautions h2 { border: 0; margin: 0 0 4px; padding: 0; font-size: 1rem; }
-.cautions ul { margin: 0; padding-left: 20px; }
-.verdict { border-radius: 6px; padding: 10px 16px; margin: 16px 0; border: 1px solid; }
-.verdict.pass { border-color: #9cc9ab; background: #eef8f1; }
-.verdict.fail { border-color: #e0a3a6; background: #fcf0f0; }
-.verdict h2 { margin: 0 0 4px; padding: 0; border: 0; }
-.verdict strong { font-size: 1.05rem; }
-.badge { display: inline-block; padding: 0 6px; border-radius: 4px; font-size: 0.85rem; font-weight: 600; }
-.badge.pass { background: #d9efe0; color: var(--good); }
-.badge.fail { background: #f6d6d7; color: var(--bad); }
-.badge.outside { background: #fbe3cc; color: var(--warn); }
-.table-wrap { overflow-x: auto; }
-table { border-collapse: collapse; margin: 8px 0; font-size: 0.875rem; }
-caption { text-align: left; color: var(--muted); padding: 2px 0 6px; }
-th, td { padding: 4px 8px; border-bottom: 1px solid var(--line); vertical-align: top; }
-th { text-align: left; background: var(--soft); font-weight: 600; }
-td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
-td.num, td:first-child { white-space: nowrap; }
-tbody tr:nth-child(even) td { background: #fafbfd; }
-tr.outside td { background: #fff4ea !important; }
-ul.findings li { margin: 4px 0; }
-details { margin: 10px 0; border: 1px solid var(--line); border-radius: 6px; padding: 6px 12px; }
-details > summary { cursor: pointer; font-weight: 600; }
-dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 4px 16px; font-size: 0.9rem; }
-dl.meta dt { color: var(--muted); }
-dl.meta dd { margin: 0; word-break: break-all; }
-svg.bands { max-width: 100%; height: auto; font: 12px system-ui, sans-serif; }
-.legend { display: flex; flex-wrap: wrap; gap: 16px; font-size: 0.85rem; color: var(--muted); margin: 4px 0 8px; }
-.legend svg { vertical-align: middle; }
-@media print { .cautions, .verdict { break-inside: avoid; } details { border: 0; } }
+.report { color-scheme: light; --ink: #1d2433; --muted: #566176; --line: #d7dce5; --soft: #f4f6fa; --accent: #1f4e8c; --warn: #9a4a00; --bad: #a4262c; --good: #1b6b3a; color: var(--ink); }
+body.report-page { margin: 0; font: 15px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif; background: #fff; }
+body.report-page * { box-sizing: border-box; }
+main.report { max-width: 1120px; margin: 0 auto; padding: 24px 20px 48px; }
+.report h1 { font-size: 1.6rem; margin: 0 0 4px; }
+.report h2 { font-size: 1.2rem; margin: 28px 0 8px; padding-bottom: 4px; border-bottom: 1px solid var(--line); }
+.report h3 { font-size: 1.05rem; margin: 20px 0 6px; }
+.report p { margin: 6px 0; }
+.report .sub, .report .note { color: var(--muted); }
+.report .note { font-size: 0.9rem; }
+.report .answer { border-left: 4px solid var(--accent); background: #f3f7fc; padding: 10px 16px; margin: 14px 0; border-radius: 0 6px 6px 0; }
+.report .answer h2 { border: 0; margin: 0 0 4px; padding: 0; font-size: 1.05rem; color: var(--accent); }
+.report .headline { font-size: 1.05rem; margin: 0; }
+.report .headline span { display: inline; }
+.report .cautions { border: 1px solid #e2c27a; background: #fff8e6; border-radius: 6px; padding: 10px 16px; margin: 16px 0; }
+.report .cautions h2 { border: 0; margin: 0 0 4px; padding: 0; font-size: 1rem; }
+.report .cautions ul { margin: 0; padding-left: 20px; }
+.report .verdict { border-radius: 6px; padding: 10px 16px; margin: 16px 0; border: 1px solid; }
+.report .verdict.pass { border-color: #9cc9ab; background: #eef8f1; }
+.report .verdict.fail { border-color: #e0a3a6; background: #fcf0f0; }
+.report .verdict h2 { margin: 0 0 4px; padding: 0; border: 0; }
+.report .verdict strong { font-size: 1.05rem; }
+.report .badge { display: inline-block; padding: 0 6px; border-radius: 4px; font-size: 0.85rem; font-weight: 600; }
+.report .badge.pass { background: #d9efe0; color: var(--good); }
+.report .badge.fail { background: #f6d6d7; color: var(--bad); }
+.report .badge.outside { background: #fbe3cc; color: var(--warn); }
+.report .table-wrap { overflow-x: auto; max-width: 100%; }
+.report table { border-collapse: collapse; margin: 8px 0; font-size: 0.875rem; }
+.report caption { text-align: left; color: var(--muted); padding: 2px 0 6px; }
+.report th, .report td { padding: 4px 8px; border-bottom: 1px solid var(--line); vertical-align: top; text-align: left; }
+.report th { background: var(--soft); font-weight: 600; }
+.report td.num, .report th.num { text-align: right; font-variant-numeric: tabular-nums; }
+.report td.num, .report td:first-child { white-space: nowrap; }
+.report th { white-space: nowrap; }
+.report td:last-child:not(.num) { min-width: 18em; }
+.report tbody tr:nth-child(even) td { background: #fafbfd; }
+.report tr.outside td { background: #fff4ea; }
+.report ul.findings li { margin: 4px 0; }
+.report details { margin: 10px 0; border: 1px solid var(--line); border-radius: 6px; padding: 6px 12px; }
+.report details > summary { cursor: pointer; font-weight: 600; }
+.report dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 4px 16px; font-size: 0.9rem; }
+.report dl.meta dt { color: var(--muted); }
+.report dl.meta dd { margin: 0; word-break: break-all; }
+.report .chart-wrap { overflow-x: auto; max-width: 100%; }
+.report svg.bands { display: block; width: 100%; min-width: 600px; max-width: 820px; height: auto; font: 13px system-ui, sans-serif; }
+.report .legend { display: flex; flex-wrap: wrap; gap: 4px 16px; font-size: 0.85rem; color: var(--muted); margin: 4px 0 8px; }
+.report .legend svg { vertical-align: middle; }
+@media (max-width: 600px) { .report dl.meta { grid-template-columns: 1fr; } main.report { padding: 16px 12px 32px; } }
+@media print {
+  .report .cautions, .report .verdict, .report .answer, .report svg.bands { break-inside: avoid; }
+  .report details { border: 0; }
+  .report .table-wrap { overflow: visible; }
+}
 `;
 
 function cell(text: string, numeric = false): string {
@@ -233,9 +251,21 @@ function verdictSection(r: Report): string {
   ]);
 }
 
+/** The headline, built once in the core (summary.sentences), as the first thing after the title. */
+function answerSection(r: Report): string {
+  return join([
+    '<section class="answer" aria-labelledby="answer-title">',
+    '<h2 id="answer-title" tabindex="-1">The answer</h2>',
+    `<p class="headline">${r.summary.sentences.map((s) => `<span>${escapeHtml(s)}</span>`).join(' ')}</p>`,
+    '</section>',
+  ]);
+}
+
+/** Findings the headline and the per-asset notes do not already say, one bullet each. */
 function findingsSection(r: Report): string {
-  const items = r.findings.length > 0 ? r.findings.map((f) => `<li>${escapeHtml(f.message)}</li>`).join('') : '<li>No findings.</li>';
-  return `<section aria-labelledby="findings-title"><h2 id="findings-title">Findings</h2><ul class="findings">${items}</ul></section>`;
+  const items = otherFindings(r).map((f) => `<li>${escapeHtml(f.message)}</li>`);
+  if (items.length === 0) return '';
+  return `<section aria-labelledby="findings-title"><h2 id="findings-title">More findings</h2><ul class="findings">${items.join('')}</ul></section>`;
 }
 
 function bandRow(label: string, band: Stat & { base: number }): string {
@@ -272,6 +302,7 @@ function positionsSection(r: Report, pm: MethodReport | undefined): string {
   }
   const n = methodDraws(r, pm);
   const charted = chartRows(r, pm).length;
+  const notes = r.summary.assetNotes;
   const rows = r.assets.map((asset, i) => {
     const b = pm.weights[i];
     const w = r.proposal.weights[i];
@@ -279,23 +310,24 @@ function positionsSection(r: Report, pm: MethodReport | undefined): string {
     const flag = position === 'inside' ? '' : ` <span class="badge outside">${position} band</span>`;
     return (
       `<tr${position === 'inside' ? '' : ' class="outside"'}>${cell(escapeHtml(asset) + flag)}` +
-      [formatPercent(w), formatPercentRange(b.p05, b.p95), formatPercent(b.bandStdErr), formatPercentileRank(b.proposalPercentile), formatPercent(b.selectionRate), formatPercent(pm.meanDrivenShare.perAsset[i] ?? 0)]
+      [formatPercent(w), `${formatPercentRange(b.p05, b.p95)} ± ${formatPercent(b.bandStdErr)}`, formatPercentileRank(b.proposalPercentile), formatPercent(pm.meanDrivenShare.perAsset[i] ?? 0)]
         .map((t) => cell(escapeHtml(t), true))
         .join('') +
-      '</tr>'
+      `<td class="notes">${escapeHtml(notes[i] ?? '')}</td></tr>`
     );
   });
   return join([
-    `<section aria-labelledby="positions-title"><h2 id="positions-title">Positions against ${escapeHtml(methodLabel(pm.method))}</h2>`,
-    `<p>The proposal's method re-optimised on each of ${escapeHtml(formatCount(n))} resampled input sets. A proposed weight outside the 5–95 % band is one the inputs do not support at that confidence. ` +
-      `Outside the band: <strong>${escapeHtml(formatPercentWithError(pm.outsideBandShare.value, pm.outsideBandShare.stdErr))}</strong> of positions.</p>`,
+    `<section aria-labelledby="positions-title"><h2 id="positions-title">Weights against ${escapeHtml(methodLabel(pm.method))}, re-optimised ${escapeHtml(formatCount(n))} times</h2>`,
+    `<p class="note">Each band is where the re-optimised weights fall in 90 % of the resampled input sets (p05–p95); the marker is the proposal. ` +
+      `${escapeHtml(LABELS.outsideBandShare)}: <strong>${escapeHtml(formatPercentWithError(pm.outsideBandShare.value, pm.outsideBandShare.stdErr))}</strong> of positions.</p>`,
     charted < r.assets.length ? `<p class="note">The chart shows the ${charted} positions furthest outside their band (then the most variable); the table lists all ${r.assets.length}.</p>` : '',
     legend(),
-    bandChartSvg(r, pm),
+    `<div class="chart-wrap">${bandChartSvg(r, pm)}</div>`,
     htmlTable(
-      'Per asset: band edges carry a Monte Carlo error (± se); the percentile is where the proposal falls among the draws; selected is the share of draws holding the asset; mean-driven is the share of its instability caused by noise in the means.',
-      ['Asset', 'Proposal', 'p05 – p95', '± se', 'Percentile', 'Selected', 'Mean-driven'],
+      `Per asset. ${escapeHtml(LABELS.proposalPercentile)}: where the proposal falls among the re-optimised weights (0–100). ${escapeHtml(LABELS.meanDrivenShare)}: the share of a weight’s variability caused by noise in the return forecasts. ± se: Monte Carlo standard error of the band edges. Notes use the thresholds in the README.`,
+      ['Asset', 'Proposal', 'p05 – p95 ± se', LABELS.proposalPercentile, LABELS.meanDrivenShare, 'Note'],
       rows,
+      (c) => c > 0 && c < 5,
     ),
     '</section>',
   ]);
@@ -312,16 +344,28 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string {
       cell(escapeHtml(`${formatBasisPoints(m.certaintyEquivalentLoss.mean)} ± ${formatFixed(m.certaintyEquivalentLoss.stdErr === null ? null : m.certaintyEquivalentLoss.stdErr * 10_000, 0)}`), true) +
       cell(escapeHtml(formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr)), true) +
       cell(escapeHtml(formatPercentWithError(m.outsideBandShare.value, m.outsideBandShare.stdErr)), true) +
+      cell(escapeHtml(formatPercentWithError(m.maxWeightSd.value, m.maxWeightSd.stdErr)), true) +
       cell(escapeHtml(formatCount(m.failedDraws)), true) +
       '</tr>',
   );
   return join([
     '<section aria-labelledby="methods-title"><h2 id="methods-title">Methods compared</h2>',
-    '<p>Turnover is one-way (½Σ|Δw|). Volatilities are annualised. CE loss is the certainty-equivalent loss against the base mean-variance optimum, scored at the base inputs, ' +
-      'in basis points per year (DeMiguel, Garlappi &amp; Uppal 2009). ± is the Monte Carlo standard error; † marks a median shown with the error of the mean because the report carries no separate median error.</p>',
+    '<p>Turnover is one-way (½Σ|Δw|). Volatilities are annualised. Certainty-equivalent loss is measured against the base mean-variance optimum, scored at the base inputs, ' +
+      'in basis points per year (DeMiguel, Garlappi &amp; Uppal 2009). ± se is the Monte Carlo standard error; † marks a median shown with the error of the mean because the report carries no separate median error.</p>',
     htmlTable(
       'Stability of each method under resampling',
-      ['Method', 'Turnover from proposal p50', 'Turnover p05 – p95', 'Turnover from base p50', 'Volatility p05 – p95', 'CE loss (mean)', 'Mean-driven share', 'Outside band', 'Failed draws'],
+      [
+        'Method',
+        `${LABELS.turnoverFromProposalP50} ± se`,
+        `${LABELS.turnoverFromProposal}, p05 – p95`,
+        `${LABELS.turnoverFromBase}, p50 ± se`,
+        `${LABELS.volatility}, p05 – p95`,
+        `${LABELS.certaintyEquivalentLoss}, mean ± se`,
+        `${LABELS.meanDrivenShare} ± se`,
+        `${LABELS.outsideBandShare} ± se`,
+        `${LABELS.maxWeightSd} ± se`,
+        'Failed draws',
+      ],
       rows,
     ),
     '</section>',
@@ -363,7 +407,7 @@ function methodDetails(r: Report, m: MethodReport, pm: MethodReport | undefined)
         .join('') +
       cell(escapeHtml(formatPercentileRank(w.proposalPercentile)), true) +
       cell(escapeHtml(formatPercent(m.meanDrivenShare.perAsset[i] ?? 0)), true) +
-      cell(escapeHtml(formatPercent(m.resampledAverage[i])), true) +
+      cell(escapeHtml(formatPercent(m.meanOfOptima[i])), true) +
       '</tr>',
   );
   const warnings = b.warnings.length > 0 ? `<ul>${b.warnings.map((w) => `<li><strong>${escapeHtml(w.code)}</strong>: ${escapeHtml(w.message)}</li>`).join('')}</ul>` : '';
@@ -374,22 +418,22 @@ function methodDetails(r: Report, m: MethodReport, pm: MethodReport | undefined)
       (b.factorRiskShare ? `, factor risk ${escapeHtml(formatPercent(b.factorRiskShare.factor))} / specific ${escapeHtml(formatPercent(b.factorRiskShare.specific))} of variance` : '') +
       `. Solver ${escapeHtml(d.solver)}: ${d.converged ? 'converged' : '<strong>did not converge</strong>'} in ${d.iterations} iteration(s), KKT residual ${escapeHtml(formatScientific(d.kktResidual))}.</p>`,
     `<p>Draws used: ${escapeHtml(formatCount(methodDraws(r, m)))}${m.failedDraws > 0 ? ` (${escapeHtml(formatCount(m.failedDraws))} failed and are excluded)` : ''}. ` +
-      `Mean-driven share: ${escapeHtml(formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr))}. ` +
-      `Largest weight standard deviation: ${escapeHtml(formatPercentWithError(m.maxWeightSd.value, m.maxWeightSd.stdErr))}.</p>`,
+      `${LABELS.meanDrivenShare}: ${escapeHtml(formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr))}. ` +
+      `${LABELS.maxWeightSd}: ${escapeHtml(formatPercentWithError(m.maxWeightSd.value, m.maxWeightSd.stdErr))}.</p>`,
     warnings,
     htmlTable(
       'Summary over draws (± is the Monte Carlo standard error)',
       ['Figure', 'Mean ± se', 'p05', 'p50 ± se', 'p95'],
       [
-        statRow('Turnover from proposal', m.turnoverFromProposal, false),
-        statRow('Turnover from base optimum', m.turnoverFromBase, false),
-        statRow('Volatility (annualised)', m.volatility, false),
-        statRow('Certainty-equivalent loss (annualised)', m.certaintyEquivalentLoss, true),
+        statRow(LABELS.turnoverFromProposal, m.turnoverFromProposal, false),
+        statRow(LABELS.turnoverFromBase, m.turnoverFromBase, false),
+        statRow(`${LABELS.volatility} (annualised)`, m.volatility, false),
+        statRow(`${LABELS.certaintyEquivalentLoss} (annualised)`, m.certaintyEquivalentLoss, true),
       ],
     ),
     htmlTable(
       'Weights over draws',
-      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', 'Band ± se', 'Selected', 'Proposal percentile', 'Mean-driven', 'Resampled average'],
+      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', LABELS.bandStdErr, LABELS.selectionRate, LABELS.proposalPercentile, LABELS.meanDrivenShare, LABELS.meanOfOptima],
       weightRows,
     ),
     '</details>',
@@ -421,7 +465,19 @@ function aboutSection(r: Report): string {
     .join('')}</dl></section>`;
 }
 
-export function renderReportHtml(r: Report): string {
+export interface ReportHtmlOptions {
+  /**
+   * For a page that already shows the cautions once (the reviewer page): leave out the report's
+   * own cautions box. Standalone reports (files, mail, the API's `format=html`) always keep it.
+   */
+  readonly embedded?: boolean;
+}
+
+/**
+ * The answer first: title, headline, verdict, then one chart and the compact per-asset table,
+ * then everything else for the reader who wants the detail.
+ */
+export function renderReportHtml(r: Report, options: ReportHtmlOptions = {}): string {
   const pm = proposalMethod(r);
   return join([
     '<!doctype html>',
@@ -433,17 +489,19 @@ export function renderReportHtml(r: Report): string {
     '<title>wobble robustness report</title>',
     `<style>${REPORT_CSS}</style>`,
     '</head>',
-    '<body>',
-    '<main>',
+    '<body class="report-page">',
+    '<main class="report">',
     '<header>',
-    '<h1>Robustness report</h1>',
+    // Embedded, the page's own heading names the result; a second h1 would break its outline.
+    options.embedded ? '' : '<h1>Robustness report</h1>',
     `<p class="sub">Proposal built with ${escapeHtml(methodLabel(r.proposal.method))} · ${r.assets.length} assets · ` +
       `${escapeHtml(formatCount(r.meta.drawsCompleted))} of ${escapeHtml(formatCount(r.meta.drawsRequested))} draws · ${escapeHtml(r.meta.scheme)} · seed ${escapeHtml(String(r.meta.seed))}</p>`,
     '</header>',
-    cautionsSection(r),
+    answerSection(r),
     verdictSection(r),
-    findingsSection(r),
     positionsSection(r, pm),
+    options.embedded ? '' : cautionsSection(r),
+    findingsSection(r),
     proposalSection(r),
     comparisonSection(r, pm),
     '<section aria-labelledby="details-title"><h2 id="details-title">Method details</h2>',

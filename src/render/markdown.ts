@@ -1,5 +1,6 @@
 import type { MethodReport, Report, Stat } from '../schema/report.js';
 import {
+  bandPosition,
   formatBasisPoints,
   formatCount,
   formatFixed,
@@ -14,6 +15,8 @@ import {
   proposalMethod,
   trimNumber,
 } from './format.js';
+import { LABELS } from './labels.js';
+import { otherFindings } from '../stress/headline.js';
 
 /**
  * The full report as GitHub-flavoured markdown, for pull requests, tickets and committee packs.
@@ -47,7 +50,7 @@ function medianCell(stat: Stat): string {
   return `${formatPercentWithError(stat.p50, e.stdErr)}${e.isMeanError ? ' †' : ''}`;
 }
 
-function summarySection(r: Report, pm: MethodReport | undefined): string[] {
+function runSection(r: Report, pm: MethodReport | undefined): string[] {
   const m = r.meta;
   const rows: string[][] = [
     ['Proposal method', escapeMarkdown(methodLabel(r.proposal.method)) + (pm ? '' : ' (not re-optimised in this report)')],
@@ -65,11 +68,51 @@ function summarySection(r: Report, pm: MethodReport | undefined): string[] {
   for (const f of m.failureReasons) {
     rows.push(['Failed draws', `${escapeMarkdown(f.method)}: ${formatCount(f.count)} (${escapeMarkdown(f.reason)})`]);
   }
+  return ['## About this run', '', ...table(['', ''], rows, ['l', 'l'])];
+}
+
+/**
+ * The top of the document, pasted into CI job summaries: the verdict (when there is a policy)
+ * and the headline sentences from the core, nothing else.
+ */
+function answerSection(r: Report): string[] {
+  const out: string[] = [];
   if (r.verdict) {
     const failed = r.verdict.rules.filter((rule) => !rule.pass).length;
-    rows.push(['Verdict', `**${r.verdict.pass ? 'PASS' : 'FAIL'}**: ${failed} of ${r.verdict.rules.length} rule(s) failed`]);
+    out.push(`**Verdict: ${r.verdict.pass ? 'PASS' : 'FAIL'}** — ${failed} of ${r.verdict.rules.length} rule(s) failed at ${formatPercent(r.verdict.confidence, 0)} confidence.`, '');
   }
-  return ['## Summary', '', ...table(['', ''], rows, ['l', 'l'])];
+  out.push(escapeMarkdown(r.summary.headline));
+  return out;
+}
+
+/** The compact per-asset table: band against the proposal, with the per-asset notes. */
+function assetSection(r: Report, pm: MethodReport | undefined): string[] {
+  if (!pm) return [];
+  const notes = r.summary.assetNotes;
+  return [
+    `## Weights against ${escapeMarkdown(methodLabel(pm.method))}, re-optimised ${formatCount(methodDraws(r, pm))} times`,
+    '',
+    `Band: where the re-optimised weights fall in 90 % of the resampled input sets (p05–p95), ± se the Monte Carlo error of its edges. ` +
+      `${LABELS.proposalPercentile}: where the proposal falls among them. ${LABELS.outsideBandShare}: ${formatPercentWithError(pm.outsideBandShare.value, pm.outsideBandShare.stdErr)} of positions.`,
+    '',
+    ...table(
+      ['Asset', 'Proposal', 'p05 – p95 ± se', LABELS.proposalPercentile, LABELS.meanDrivenShare, 'Note'],
+      r.assets.map((asset, i) => {
+        const b = pm.weights[i];
+        const w = r.proposal.weights[i];
+        const position = bandPosition(w, b.p05, b.p95);
+        return [
+          escapeMarkdown(asset) + (position === 'inside' ? '' : ` (${position} band)`),
+          formatPercent(w),
+          `${formatPercentRange(b.p05, b.p95)} ± ${formatPercent(b.bandStdErr)}`,
+          formatPercentileRank(b.proposalPercentile),
+          formatPercent(pm.meanDrivenShare.perAsset[i] ?? 0),
+          escapeMarkdown(notes[i] ?? ''),
+        ];
+      }),
+      ['l', 'r', 'r', 'r', 'r', 'l'],
+    ),
+  ];
 }
 
 function bandRow(label: string, band: Stat & { base: number }, decimals: number): string[] {
@@ -135,20 +178,20 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string[] {
     '## Methods compared',
     '',
     'Each method re-optimised on every draw. Turnover is one-way (½Σ|Δw|). Volatilities are annualised. ' +
-      'CE loss is the certainty-equivalent loss against the base mean-variance optimum, scored at the base inputs, in basis points per year ' +
-      '(DeMiguel, Garlappi & Uppal 2009). ± is the Monte Carlo standard error; † marks a median shown with the error of the mean because the report has no separate median error.',
+      'Certainty-equivalent loss is measured against the base mean-variance optimum, scored at the base inputs, in basis points per year ' +
+      '(DeMiguel, Garlappi & Uppal 2009). ± se is the Monte Carlo standard error; † marks a median shown with the error of the mean because the report has no separate median error.',
     '',
     ...table(
       [
         'Method',
-        'Turnover from proposal, p50',
-        'p05 – p95',
-        'Turnover from base, p50',
-        'Volatility p05 – p95',
-        'CE loss, mean',
-        'Mean-driven share',
-        'Outside band',
-        'Largest weight sd',
+        `${LABELS.turnoverFromProposalP50} ± se`,
+        `${LABELS.turnoverFromProposal}, p05 – p95`,
+        `${LABELS.turnoverFromBase}, p50 ± se`,
+        `${LABELS.volatility}, p05 – p95`,
+        `${LABELS.certaintyEquivalentLoss}, mean ± se`,
+        `${LABELS.meanDrivenShare} ± se`,
+        `${LABELS.outsideBandShare} ± se`,
+        `${LABELS.maxWeightSd} ± se`,
         'Failed draws',
       ],
       rows,
@@ -176,23 +219,23 @@ function methodSection(r: Report, m: MethodReport, pm: MethodReport | undefined)
       `. Solver ${escapeMarkdown(d.solver)}: ${d.converged ? 'converged' : '**did not converge**'} in ${d.iterations} iteration(s), KKT residual ${formatScientific(d.kktResidual)}.`,
     '',
     `Draws used: ${formatCount(methodDraws(r, m))}${m.failedDraws > 0 ? ` (${formatCount(m.failedDraws)} failed and are excluded)` : ''}. ` +
-      `Mean-driven share of weight instability: ${formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr)}. ` +
-      `Proposal outside this method's band in ${formatPercentWithError(m.outsideBandShare.value, m.outsideBandShare.stdErr)} of positions. ` +
-      `Largest weight standard deviation: ${formatPercentWithError(m.maxWeightSd.value, m.maxWeightSd.stdErr)}.`,
+      `${LABELS.meanDrivenShare}: ${formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr)}. ` +
+      `${LABELS.outsideBandShare}: ${formatPercentWithError(m.outsideBandShare.value, m.outsideBandShare.stdErr)} of positions. ` +
+      `${LABELS.maxWeightSd}: ${formatPercentWithError(m.maxWeightSd.value, m.maxWeightSd.stdErr)}.`,
     '',
     ...table(
       ['Figure', 'Mean ± se', 'p05', 'p50 ± se', 'p95'],
       [
-        statRow('Turnover from proposal', m.turnoverFromProposal, true),
-        statRow('Turnover from base optimum', m.turnoverFromBase, true),
-        statRow('Volatility (annualised)', m.volatility, true),
-        statRow('Certainty-equivalent loss (annualised)', m.certaintyEquivalentLoss, false),
+        statRow(LABELS.turnoverFromProposal, m.turnoverFromProposal, true),
+        statRow(LABELS.turnoverFromBase, m.turnoverFromBase, true),
+        statRow(`${LABELS.volatility} (annualised)`, m.volatility, true),
+        statRow(`${LABELS.certaintyEquivalentLoss} (annualised)`, m.certaintyEquivalentLoss, false),
       ],
       ['l', 'r', 'r', 'r', 'r'],
     ),
     '',
     ...table(
-      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', 'Band ± se', 'Selected', 'Proposal percentile', 'Mean-driven', 'Resampled average'],
+      ['Asset', 'Proposal', 'Base', 'Mean', 'sd', 'p05', 'p25', 'p50', 'p75', 'p95', LABELS.bandStdErr, LABELS.selectionRate, LABELS.proposalPercentile, LABELS.meanDrivenShare, LABELS.meanOfOptima],
       m.weights.map((w, i) => [
         escapeMarkdown(w.asset),
         formatPercent(r.proposal.weights[i]),
@@ -208,7 +251,7 @@ function methodSection(r: Report, m: MethodReport, pm: MethodReport | undefined)
         formatPercent(w.selectionRate),
         formatPercentileRank(w.proposalPercentile),
         formatPercent(m.meanDrivenShare.perAsset[i] ?? 0),
-        formatPercent(m.resampledAverage[i]),
+        formatPercent(m.meanOfOptima[i]),
       ]),
       ['l', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r', 'r'],
     ),
@@ -224,7 +267,7 @@ function verdictSection(r: Report): string[] {
   if (!v) return [];
   const failed = v.rules.filter((rule) => !rule.pass).length;
   return [
-    '## Verdict',
+    '## Policy rules',
     '',
     `**${v.pass ? 'PASS' : 'FAIL'}**: ${failed} of ${v.rules.length} rule(s) failed. A rule fails only when its value is beyond the threshold ` +
       `by more than the Monte Carlo error allows at ${formatPercent(v.confidence, 0)} confidence.`,
@@ -249,18 +292,21 @@ function listSection(title: string, items: readonly string[], empty: string): st
   return [`## ${title}`, '', ...(items.length > 0 ? items.map((item) => `- ${item}`) : [empty])];
 }
 
+/** Verdict and headline first (CI job summaries show the top), then the per-asset table and the details. */
 export function renderReportMarkdown(r: Report): string {
   const pm = proposalMethod(r);
   const sections: string[][] = [
     ['# wobble robustness report'],
-    summarySection(r, pm),
+    answerSection(r),
+    assetSection(r, pm),
+    verdictSection(r),
+    listSection('Cautions', r.cautions.map(escapeMarkdown), 'No cautions were supplied.'),
+    otherFindings(r).length > 0 ? listSection('More findings', otherFindings(r).map((f) => escapeMarkdown(f.message)), '') : [],
     proposalSection(r),
     comparisonSection(r, pm),
     ...r.methods.map((m) => methodSection(r, m, pm)),
-    listSection('Findings', r.findings.map((f) => escapeMarkdown(f.message)), 'No findings.'),
     listSection('Warnings', r.warnings.map((w) => `**${escapeMarkdown(w.code)}**: ${escapeMarkdown(w.message)}`), 'No warnings.'),
-    verdictSection(r),
-    listSection('Cautions', r.cautions.map(escapeMarkdown), 'No cautions were supplied.'),
+    runSection(r, pm),
   ];
   return `${sections
     .filter((s) => s.length > 0)

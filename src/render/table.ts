@@ -14,6 +14,7 @@ import {
   proposalMethod,
   shareStdErr,
 } from './format.js';
+import { otherFindings } from '../stress/headline.js';
 
 /**
  * Plain-text terminal tables. Fixed column widths so a reviewer can scan a column; every line
@@ -232,7 +233,7 @@ function positionSection(r: Report, pm: MethodReport | undefined): string[] {
   const outside = pm.outsideBandShare;
   out.push(
     ...wrap(
-      `Outside band: ${formatPercentWithError(outside.value, outside.stdErr)} of positions · ±se: error of band edges · ` +
+      `Outside band share: ${formatPercentWithError(outside.value, outside.stdErr)} of positions · ±se: error of band edges · ` +
         `pctile: proposal's rank in the draws (0–100) · selected: share of draws holding it ` +
         `(±${formatPercent(worstSelectionError)} at most) · mean-driven: share of instability from noisy means.`,
       SCREEN_WIDTH,
@@ -340,18 +341,22 @@ export function renderReportTable(r: Report): string {
       '  ',
     ),
   );
+  // The answer first: verdict (with a policy) and the headline sentences from the core.
+  out.push('');
+  out.push(...wrap(r.summary.headline, SCREEN_WIDTH));
+  out.push(...verdictLines(r));
+  out.push('');
   out.push(...proposalLines(r));
   out.push('');
   out.push(...positionSection(r, pm));
   out.push('');
   out.push(...methodSection(r));
 
-  const findings = r.findings.map((f) => wrap(f.message, SCREEN_WIDTH, '  - ', '    '));
+  const findings = otherFindings(r).map((f) => wrap(f.message, SCREEN_WIDTH, '  - ', '    '));
   out.push('');
-  if (findings.length > 0) out.push('Findings', ...fitItems(findings, 6, 'finding(s)'));
+  if (findings.length > 0) out.push('More findings', ...fitItems(findings, 6, 'finding(s)'));
   const warnings = r.warnings.map((w) => wrap(`${w.code}: ${w.message}`, SCREEN_WIDTH, '  - ', '    '));
   if (warnings.length > 0) out.push('Warnings', ...fitItems(warnings, 4, 'warning(s)'));
-  out.push(...verdictLines(r));
   out.push(...cautionLines(r.cautions, true));
   return `${out.join('\n')}\n`;
 }

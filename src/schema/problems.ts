@@ -94,9 +94,14 @@ function describeIssue(issue: Issue): string {
         ? `required field missing (expected ${issue.expected})`
         : `expected ${issue.expected}${receivedSuffix(issue.message)}`;
     case 'too_small':
-      return `${issue.origin === 'array' ? 'expected at least' : 'expected ≥'} ${String(issue.minimum)}${issue.origin === 'array' ? ' items' : ''}`;
+      // `inclusive: false` is an exclusive bound (z.number().positive(), .gt(0)): say "> 0", not "≥ 0".
+      return issue.origin === 'array'
+        ? `expected at least ${String(issue.minimum)} items`
+        : `expected ${issue.inclusive === false ? '>' : '≥'} ${String(issue.minimum)}`;
     case 'too_big':
-      return `${issue.origin === 'array' ? 'expected at most' : 'expected ≤'} ${String(issue.maximum)}${issue.origin === 'array' ? ' items' : ''}`;
+      return issue.origin === 'array'
+        ? `expected at most ${String(issue.maximum)} items`
+        : `expected ${issue.inclusive === false ? '<' : '≤'} ${String(issue.maximum)}`;
     case 'invalid_value':
       return `expected one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}`;
     case 'invalid_union':

@@ -143,7 +143,7 @@ export const MethodReportSchema = z.strictObject({
       stdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `overall` (delete-one-group jackknife).'),
     })
     .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
-  resampledAverage: z.array(z.number()).describe('Weights averaged over draws.'),
+  meanOfOptima: z.array(z.number()).describe('Mean of the re-optimised weights: each asset’s weight averaged over the successful draws.'),
   outsideBandShare: EstimateSchema.describe("Share of assets whose proposed weight lies outside this method's p05–p95 band."),
   maxWeightSd: EstimateSchema.describe('Largest standard deviation of any asset’s weight across draws.'),
   failedDraws: z.int().min(0),
@@ -195,8 +195,36 @@ export const VerdictSchema = z.strictObject({
   rules: z.array(VerdictRuleSchema),
 });
 
+export const ReportSummarySchema = z
+  .strictObject({
+    headline: z.string().describe('The answer in one or two sentences, read aloud: the `sentences` joined. Every draw-based number carries its Monte Carlo standard error (±).'),
+    sentences: z.array(z.string()).describe('The headline sentence by sentence.'),
+    statedOptimumTurnover: z
+      .number()
+      .min(0)
+      .nullable()
+      .describe("One-way turnover between the proposal and its stated method's optimum on the base inputs (0 when the proposal is that optimum); null when that method was not re-optimised."),
+    riskStable: z.boolean().describe("Whether the proposal's volatility band (p95 − p05) is at most a quarter of its base volatility."),
+    simplerMethod: z
+      .string()
+      .nullable()
+      .describe('A method that ignores the return forecasts and lost clearly less certainty-equivalent return at this sample size, else null.'),
+    forecastBreakEven: z
+      .strictObject({
+        asset: z.string(),
+        direction: z.enum(['up', 'down']),
+        stdErrs: z.number().min(0),
+        turnoverPerStdErr: z.number().min(0).describe('One-way turnover of the optimum when that forecast moves one standard error in that direction (from turnoverPerStdErr).'),
+      })
+      .nullable()
+      .describe("The smallest change of one asset's return forecast, in its standard errors, that changes which positions of the optimum sit at a bound (the minimum over methods[k].forecastSensitivity of shiftUpStdErrs and shiftDownStdErrs, as the forecast-break-even-std-errs metric); null when not available."),
+    assetNotes: z.array(z.string()).describe('A short note per asset (in the order of `assets`; empty when nothing is notable) for the per-asset table.'),
+  })
+  .describe('The headline first: the same sentences in every format.');
+
 export const ReportSchema = z
   .strictObject({
+    summary: ReportSummarySchema,
     meta: ReportMetaSchema,
     assets: z.array(z.string()),
     proposal: z.strictObject({
@@ -240,3 +268,4 @@ export type ForecastSensitivity = z.infer<typeof ForecastSensitivitySchema>;
 export type PatternChange = z.infer<typeof PatternChangeSchema>;
 export type OptimizeResponse = z.infer<typeof OptimizeResponseSchema>;
 export type Verdict = z.infer<typeof VerdictSchema>;
+export type ReportSummary = z.infer<typeof ReportSummarySchema>;

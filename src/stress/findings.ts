@@ -3,7 +3,7 @@ import type { MethodReport, Report } from '../schema/report.js';
 type Finding = Report['findings'][number];
 
 /** Methods whose weights do not use the means. */
-const MEAN_FREE_METHODS = new Set(['minimum-variance', 'risk-parity', 'equal-weight', 'inverse-volatility']);
+export const MEAN_FREE_METHODS: ReadonlySet<string> = new Set(['minimum-variance', 'risk-parity', 'equal-weight', 'inverse-volatility']);
 
 const pct = (x: number): string => `${(100 * x).toFixed(1)}%`;
 
@@ -11,7 +11,7 @@ const pct = (x: number): string => `${(100 * x).toFixed(1)}%`;
 export const FINDING_THRESHOLDS = {
   /** A weight whose p05–p95 band is wider than this is called unstable. */
   wideBand: 0.1,
-  /** Mean-driven share above this: "depends mainly on its return forecast". */
+  /** Mean-driven share above this: the re-optimised weights "depend mainly on the return forecasts". */
   meanDriven: 0.7,
   /** Held (≥ 1 bp) in fewer than this share of draws although the proposal holds it. */
   rarelySelected: 0.5,
@@ -43,10 +43,11 @@ export function findingsFor(assets: readonly string[], proposalWeights: readonly
           code: 'weight-driven-by-mean-forecast',
           asset,
           method: name,
-          message: `${asset} (proposed ${pct(proposalWeights[i])}) depends mainly on its return forecast: ${band}, and ${pct(share)} of that variability comes from noise in the means rather than in the covariance${selection}.`,
+          // About the re-optimised weights, not the proposal: a proposal (say 1/N) may depend on no forecast at all.
+          message: `The re-optimised weights of ${asset} depend mainly on the return forecasts: ${band}, and ${pct(share)} of that variability comes from noise in the means rather than in the covariance${selection}; the proposed ${pct(proposalWeights[i])} sits at percentile ${w.proposalPercentile.toFixed(0)} of them.`,
         });
       } else if (width > FINDING_THRESHOLDS.wideBand) {
-        out.push({ code: 'weight-unstable', asset, method: name, message: `${asset} (proposed ${pct(proposalWeights[i])}) is unstable under ${name}: ${band}${selection}.` });
+        out.push({ code: 'weight-unstable', asset, method: name, message: `The re-optimised ${name} weights of ${asset} are unstable: ${band}${selection}; the proposed ${pct(proposalWeights[i])} sits at percentile ${w.proposalPercentile.toFixed(0)} of them.` });
       } else if (selection) {
         out.push({ code: 'position-rarely-selected', asset, method: name, message: `${asset} (proposed ${pct(proposalWeights[i])})${selection.replace('; it', '')}.` });
       } else if (w.proposalPercentile < 5 || w.proposalPercentile > 95) {

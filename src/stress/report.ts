@@ -10,6 +10,7 @@ import { findingsFor } from './findings.js';
 import { methodKey } from './method-key.js';
 export { methodKey } from './method-key.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
+import { summarise } from './headline.js';
 import { PERCENTILE_DEFINITION } from './quantiles.js';
 import type { ScalarSummary } from './scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
@@ -98,7 +99,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
         perAsset: cleanArray(Array.from(shares.perAsset, (x) => (Number.isFinite(x) ? x : 0))),
         stdErr: error(shares.overallStdErr),
       },
-      resampledAverage: cleanArray(summary.resampledAverage),
+      meanOfOptima: cleanArray(summary.meanOfOptima),
       outsideBandShare: { value: finite(stability.value), stdErr: error(stability.stdErr) },
       maxWeightSd: { value: finite(maxSd), stdErr: error(maxSdErr) },
       failedDraws: summary.failedDraws,
@@ -147,7 +148,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     warnings.push({ code: 'failed-draws', message: `${failedDraws} of ${plan.draws} draws failed for at least one method; those draws are left out of that method's figures (see meta.failureReasons).` });
   }
   const inputFailed = [...acc.inputFailures.values()].reduce((a, b) => a + b, 0);
-  return {
+  const body: Omit<Report, 'verdict' | 'summary'> = {
     meta: {
       version: meta.version,
       seed: plan.seed,
@@ -173,6 +174,8 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     warnings,
     cautions: [...CAUTIONS],
   };
+  // The headline first in the JSON too (key order is the serialisation order).
+  return { summary: summarise(body), ...body };
 }
 
 function countFailedDraws(plan: StressPlan, acc: StressAccumulators): number {

@@ -55,8 +55,8 @@ export interface AssetWeightSummary {
 
 export interface WeightSummary extends DrawCounts {
   readonly perAsset: AssetWeightSummary[];
-  /** Mean weights over the successful draws (the resampled average), per asset. */
-  readonly resampledAverage: Float64Array;
+  /** Mean of the re-optimised weights over the successful draws, per asset. */
+  readonly meanOfOptima: Float64Array;
   readonly selectionThreshold: number;
   readonly quantileErrorMethod: 'order-statistic';
 }
@@ -155,7 +155,7 @@ export class WeightAccumulator {
     const workspace = createQuantileErrorWorkspace(B);
     const bands = new Float64Array(BAND_PROBABILITIES.length);
     const edgeErrors = new Float64Array(EDGE_PROBABILITIES.length);
-    const resampledAverage = new Float64Array(n);
+    const meanOfOptima = new Float64Array(n);
     const perAsset: AssetWeightSummary[] = [];
     const quantileErrorMethod = 'order-statistic' as const;
     for (let i = 0; i < n; i++) {
@@ -170,7 +170,7 @@ export class WeightAccumulator {
       const proposalPercentileStdErr = midRankStdErr(workspace.sort, m, proposal[i]);
       quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
       const selectionRate = m > 0 ? selected / m : Number.NaN;
-      resampledAverage[i] = moments.mean;
+      meanOfOptima[i] = moments.mean;
       perAsset.push({
         mean: moments.mean,
         meanStdErr: moments.stdErr,
@@ -191,7 +191,7 @@ export class WeightAccumulator {
         proposalPercentileStdErr,
       });
     }
-    return { ...this.counts(), perAsset, resampledAverage, selectionThreshold, quantileErrorMethod };
+    return { ...this.counts(), perAsset, meanOfOptima, selectionThreshold, quantileErrorMethod };
   }
 
   toState(): WeightAccumulatorState {

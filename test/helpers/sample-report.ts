@@ -1,4 +1,5 @@
 import { CAUTIONS } from '../../src/schema/cautions.js';
+import { summarise } from '../../src/stress/headline.js';
 import type { MethodSpec } from '../../src/schema/proposal.js';
 import type { BaseOptimum, MethodReport, OptimizeResponse, Report, Stat, Verdict } from '../../src/schema/report.js';
 
@@ -231,7 +232,7 @@ function methodReport(plan: MethodPlan, assets: readonly string[], index: number
       perAsset: plan.base.map((_, i) => (plan.meanDriven === 0 ? 0 : Math.min(1, plan.meanDriven * (0.75 + 0.05 * i)))),
       stdErr: plan.meanDriven === 0 ? 0 : 0.021,
     },
-    resampledAverage: [...plan.base],
+    meanOfOptima: [...plan.base],
     failedDraws: plan.failedDraws,
   };
 }
@@ -291,7 +292,7 @@ export function sampleReport(options: SampleReportOptions = {}): Report {
   const outside = mv.weights.filter((b, i) => PROPOSAL_WEIGHTS[i] < b.p05 || PROPOSAL_WEIGHTS[i] > b.p95);
   const proposalBase = baseOptimum(PROPOSAL_WEIGHTS, 0);
   const proposalVol = proposalBase.volatility;
-  const report: Report = {
+  const body: Omit<Report, 'summary' | 'verdict'> = {
     meta: {
       version: '0.1.0',
       seed: 'sample-seed',
@@ -351,6 +352,8 @@ export function sampleReport(options: SampleReportOptions = {}): Report {
     ],
     cautions: [...CAUTIONS],
   };
+  // The headline comes from the core, as in a real report (it is tested against hand-worked figures in test/stress/headline.test.ts).
+  const report: Report = { summary: summarise(body), ...body };
   if (options.withVerdict !== false) report.verdict = sampleVerdict(methods, outside.length / assets.length);
   return report;
 }

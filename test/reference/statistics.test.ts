@@ -131,7 +131,7 @@ describe('weight accumulator summary against numpy', () => {
     w.perAsset.forEach((expected, i) => {
       const got = summary.perAsset[i];
       expectClose(got.mean, expected.mean, `asset ${i} mean`);
-      expectClose(summary.resampledAverage[i], expected.mean, `asset ${i} average`);
+      expectClose(summary.meanOfOptima[i], expected.mean, `asset ${i} average`);
       expectClose(got.meanStdErr, expected.meanStdErr, `asset ${i} meanStdErr`);
       expectClose(got.sd, expected.sd, `asset ${i} sd`);
       expectClose(got.sdStdErr, expected.sdStdErr, `asset ${i} sdStdErr`);

@@ -46,12 +46,34 @@ describe('renderReportHtml', () => {
     expect(html).toContain(`content="default-src 'none'; style-src 'unsafe-inline'; img-src data:"`);
   });
 
-  it('shows the cautions before the findings and the verdict', () => {
-    const cautionsAt = html.indexOf('Please read first');
-    expect(cautionsAt).toBeGreaterThan(0);
-    expect(cautionsAt).toBeLessThan(html.indexOf('Verdict: fail'));
-    expect(cautionsAt).toBeLessThan(html.indexOf('id="findings-title"'));
+  it('opens with the headline, then the verdict, the chart and the per-asset table; cautions follow in a standalone report', () => {
+    const answerAt = html.indexOf('id="answer-title"');
+    expect(answerAt).toBeGreaterThan(html.indexOf('<h1>'));
+    // Nothing but the title and the sub-line comes before the answer.
+    expect(html.slice(html.indexOf('<main'), html.indexOf('<section class="answer"'))).not.toMatch(/<section|<table|<svg/);
+    for (const sentence of report.summary.sentences) expect(html).toContain(escapeHtml(sentence));
+    const order = ['id="answer-title"', 'Verdict: fail', '<svg class="bands"', 'id="positions-title"', 'Please read first', 'id="proposal-title"', 'id="methods-title"'];
+    const at = order.map((marker) => html.indexOf(marker));
+    expect(at.every((x) => x > 0)).toBe(true);
+    expect(at.slice(0, 3)).toEqual([...at.slice(0, 3)].sort((x, y) => x - y));
+    expect(at[4]).toBeGreaterThan(at[2]);
+    expect(at[5]).toBeGreaterThan(at[4]);
     for (const c of report.cautions) expect(html).toContain(`<li>${escapeHtml(c)}</li>`);
+  });
+
+  it('leaves the cautions box out only when embedded in a page that shows them', () => {
+    const embedded = renderReportHtml(report, { embedded: true });
+    expect(embedded).not.toContain('Please read first');
+    for (const c of report.cautions) expect(embedded).not.toContain(escapeHtml(c));
+    expect(embedded).toContain('id="answer-title"');
+  });
+
+  it('puts each asset note from the summary in the compact table', () => {
+    const section = html.slice(html.indexOf('id="positions-title"'), html.indexOf('</section>', html.indexOf('id="positions-title"')));
+    report.summary.assetNotes.forEach((note) => {
+      if (note !== '') expect(section).toContain(`<td class="notes">${escapeHtml(note)}</td>`);
+    });
+    expect((section.match(/<td class="notes">/g) ?? []).length).toBe(report.assets.length);
   });
 
   it('contains every asset, method, finding and warning', () => {
@@ -127,7 +149,7 @@ describe('renderReportHtml', () => {
         ...template,
         weights: r.assets.map((asset, i) => ({ ...template.weights[0], asset, p05: 0, p25: 0.002, p50: 0.005, p75: 0.008, p95: 0.01 + i * 1e-5 })),
         meanDrivenShare: { ...template.meanDrivenShare, perAsset: r.assets.map(() => 0.5) },
-        resampledAverage: r.assets.map(() => 1 / n),
+        meanOfOptima: r.assets.map(() => 1 / n),
         base: { ...template.base, weights: r.assets.map(() => 1 / n), riskContributions: r.assets.map(() => 1 / n) },
       },
     ];

@@ -48,22 +48,31 @@ describe('renderReportMarkdown', () => {
     const headings = md.split('\n').filter((l) => /^#{1,3} /.test(l));
     expect(headings).toEqual([
       '# wobble robustness report',
-      '## Summary',
+      `## Weights against ${methodLabel(report.methods[0].method)}, re-optimised 500 times`,
+      '## Policy rules',
+      '## Cautions',
+      '## More findings',
       '## Proposal',
       '### Risk contributions of the proposal',
       '## Methods compared',
       ...report.methods.map((m, i) => `### ${methodLabel(m.method)}${i === 0 ? ' — the proposal’s method' : ''}`),
-      '## Findings',
       '## Warnings',
-      '## Verdict',
-      '## Cautions',
+      '## About this run',
     ]);
+  });
+
+  it('puts the verdict and the headline first (CI job summaries show the top)', () => {
+    const lines = md.split('\n');
+    expect(lines[2]).toBe('**Verdict: FAIL** — 1 of 2 rule(s) failed at 95% confidence.');
+    expect(lines[4]).toBe(escapeMarkdown(report.summary.headline));
+    const noVerdict = renderReportMarkdown(sampleReport({ withVerdict: false })).split('\n');
+    expect(noVerdict[2]).toBe(escapeMarkdown(report.summary.headline));
   });
 
   it('writes well-formed tables: every row has as many cells as its header', () => {
     const all = tables(md);
-    // summary, proposal, risk contributions, comparison, 2 per method, verdict
-    expect(all).toHaveLength(4 + 2 * report.methods.length + 1);
+    // per asset, verdict, proposal, risk contributions, comparison, 2 per method, about this run
+    expect(all).toHaveLength(6 + 2 * report.methods.length);
     for (const t of all) for (const row of t.rows) expect(row.length).toBe(t.header.length);
   });
 
@@ -99,7 +108,7 @@ describe('renderReportMarkdown', () => {
     const comparison = tables(md).find((t) => t.header[0] === 'Method')!;
     expect(comparison.rows.map((r) => r[0])).toEqual(report.methods.map((m, i) => `${methodLabel(m.method)}${i === 0 ? ' (proposal’s method)' : ''}`));
     for (const row of comparison.rows) {
-      for (const column of ['Turnover from proposal, p50', 'Mean-driven share', 'Outside band', 'Largest weight sd', 'CE loss, mean']) {
+      for (const column of ['Turnover from proposal, p50 ± se', 'Mean-driven share ± se', 'Outside band share ± se', 'Max weight sd ± se', 'Certainty-equivalent loss, mean ± se']) {
         expect(row[comparison.header.indexOf(column)]).toContain('±');
       }
     }
@@ -118,7 +127,7 @@ describe('renderReportMarkdown', () => {
   });
 
   it('omits the verdict section when there is none', () => {
-    expect(renderReportMarkdown(sampleReport({ withVerdict: false }))).not.toContain('## Verdict');
+    expect(renderReportMarkdown(sampleReport({ withVerdict: false }))).not.toMatch(/Verdict|## Policy rules/);
   });
 
   it('escapes pipes and markup in asset ids so tables keep their shape', () => {

@@ -8,7 +8,7 @@ describe('renderPage', () => {
   const page = renderPage();
 
   it('has the stable element ids scripts and tests rely on', () => {
-    for (const id of ['proposal', 'load-demo', 'run-optimize', 'run-stress', 'status', 'errors', 'result', 'cautions']) {
+    for (const id of ['proposal', 'proposal-file', 'load-demo', 'run-optimize', 'run-stress', 'status', 'token', 'token-input', 'errors', 'result', 'cautions']) {
       expect(page).toContain(`id="${id}"`);
     }
   });
@@ -37,7 +37,9 @@ describe('renderPage', () => {
   it('calls the contract routes', () => {
     expect(page).toContain("fetch('/v1/examples/demo'");
     expect(page).toContain("post('/v1/optimize'");
-    expect(page).toContain("post('/v1/stress?format=html'");
+    expect(page).toContain("post('/v1/stress'");
+    expect(page).toContain("post('/v1/check'");
+    expect(page).toContain("post('/v1/render?'");
   });
 
   it('has one inline script that is syntactically valid JavaScript and never uses innerHTML', () => {
@@ -47,7 +49,10 @@ describe('renderPage', () => {
     expect(() => new Function(scripts[0])).not.toThrow();
     expect(scripts[0]).not.toContain('innerHTML');
     expect(scripts[0]).not.toContain('insertAdjacentHTML');
-    // The report frame may not run scripts.
-    expect(scripts[0]).toContain("frame.setAttribute('sandbox', 'allow-same-origin')");
+    // The report is parsed by DOMParser (which runs nothing) and stripped of active content before it is inserted.
+    expect(scripts[0]).toContain('new DOMParser().parseFromString(');
+    // The token is kept for the tab only.
+    expect(scripts[0]).toContain('sessionStorage');
+    expect(scripts[0]).not.toContain('localStorage');
   });
 });

@@ -62,9 +62,9 @@ describe('renderReportTable', () => {
   const text = renderReportTable(report);
   const rows = lines(text);
 
-  it('fits one screen: at most 120 columns and about 40 lines for ten assets', () => {
+  it('fits one screen: at most 120 columns and about 50 lines for ten assets (the headline takes up to 7)', () => {
     for (const line of rows) expect(line.length, line).toBeLessThanOrEqual(120);
-    expect(rows.length).toBeLessThanOrEqual(45);
+    expect(rows.length).toBeLessThanOrEqual(55);
   });
 
   it('shows each position with its weight, band, band error, percentile, selection rate and mean-driven share', () => {
@@ -137,13 +137,23 @@ describe('renderReportTable', () => {
     const r = sampleReport();
     r.findings = Array.from({ length: 12 }, (_, i) => ({ code: 'unstable', message: `Finding number ${i} ${'is long enough to wrap onto a second line of the terminal table. '.repeat(2)}` }));
     const out = lines(renderReportTable(r));
-    const start = out.indexOf('Findings');
+    const start = out.indexOf('More findings');
     const end = out.indexOf('Warnings');
     const block = out.slice(start + 1, end);
     expect(block.length).toBeLessThanOrEqual(6);
     // Each finding takes two lines here: two whole findings fit before the note line.
     expect(block.filter((l) => l.startsWith('  - Finding number'))).toHaveLength(2);
     expect(block[block.length - 1]).toBe('  … 10 more finding(s); the markdown and HTML reports list them all.');
+  });
+
+  it('opens with the headline sentences from the core, before any table', () => {
+    const r = sampleReport();
+    const out = renderReportTable(r).replace(/\s+/g, ' ');
+    const at = out.indexOf(r.summary.sentences[0]);
+    expect(at).toBeGreaterThan(0);
+    expect(at).toBeLessThan(out.indexOf('Verdict:'));
+    expect(at).toBeLessThan(out.indexOf('Positions against'));
+    for (const sentence of r.summary.sentences) expect(out).toContain(sentence);
   });
 
   it('has no verdict lines when the report has no verdict', () => {

@@ -97,7 +97,7 @@ describe('reports stay inside the feasible set', () => {
           const hi = constrained ? c.upper : 1;
           const vectors: [string, number[]][] = [
             ['base', m.base.weights],
-            ['resampledAverage', m.resampledAverage],
+            ['meanOfOptima', m.meanOfOptima],
           ];
           for (const [label, w] of vectors) {
             expect(w.length).toBe(n);

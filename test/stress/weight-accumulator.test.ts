@@ -45,7 +45,7 @@ describe('WeightAccumulator', () => {
     // Asset 2 is exactly 0 in about 30% of draws.
     expect(expected.perAsset[2].selectionRate).toBeGreaterThan(0.55);
     expect(expected.perAsset[2].selectionRate).toBeLessThan(0.85);
-    expect(Array.from(expected.resampledAverage)).toEqual(expected.perAsset.map((a) => a.mean));
+    expect(Array.from(expected.meanOfOptima)).toEqual(expected.perAsset.map((a) => a.mean));
   });
 
   it('excludes failed rows, records from an offset and counts selection against the threshold', () => {

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import demoProposal from '../../../schemas/examples/demo-proposal.json';
-import { renderPage } from '../../render/page.js';
+import { pageSecurityHeaders, renderPage } from '../../render/page.js';
 import { jsonSchema, SCHEMA_NAMES } from '../../schema/json-schema.js';
 import { VERSION } from '../../version.js';
 import { openApiDocument } from '../openapi.js';
@@ -22,7 +22,8 @@ export const pageRoute: RouteDefinition = {
   ownCsp: true,
   success: { description: 'The reviewer page.', content: { 'text/html': { text: 'An HTML page.' } } },
   problems: [],
-  handle: (c) => c.html(renderPage()),
+  // The page's own CSP: only its hashed inline script and stylesheet, no framing (src/render/page.ts).
+  handle: async (c) => c.html(renderPage(), 200, await pageSecurityHeaders()),
 };
 
 export const healthRoute: RouteDefinition = {

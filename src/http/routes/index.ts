@@ -2,6 +2,7 @@ import type { RouteDefinition } from '../route.js';
 import { checkRoute } from './check.js';
 import { demoRoute, healthRoute, openApiRoute, pageRoute, schemaRoute } from './discovery.js';
 import { optimizeRoute } from './optimize.js';
+import { renderRoute } from './render.js';
 import { stressRoute } from './stress.js';
 
 /**
@@ -9,4 +10,4 @@ import { stressRoute } from './stress.js';
  * definition in a module of its own and list it here: the app, 405/Allow, CORS preflights and the
  * OpenAPI document all follow from this table.
  */
-export const ROUTES: readonly RouteDefinition[] = [pageRoute, healthRoute, optimizeRoute, stressRoute, checkRoute, demoRoute, schemaRoute, openApiRoute];
+export const ROUTES: readonly RouteDefinition[] = [pageRoute, healthRoute, optimizeRoute, stressRoute, checkRoute, renderRoute, demoRoute, schemaRoute, openApiRoute];
