@@ -119,16 +119,16 @@ function workShape(proposal: Proposal, scheme: Scheme, methods: readonly MethodS
  * estimated work. (Optimize checks one draw: it counts the base solves, in every channel, which
  * over-counts a little.)
  */
-export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[]): number {
+export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], workLimit: number = LIMITS.maxWorkUnits): number {
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
   const shape = workShape(proposal, scheme, methods);
   const workUnits = estimateWork(methods, draws, shape);
-  if (workUnits > LIMITS.maxWorkUnits) {
+  if (workUnits > workLimit) {
     throw new LimitError(
       'maxWorkUnits',
-      LIMITS.maxWorkUnits,
-      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${LIMITS.maxWorkUnits.toExponential(1)} (maxWorkUnits); use fewer draws (at most about ${Math.max(1, Math.floor((draws * LIMITS.maxWorkUnits) / workUnits))}), fewer methods in compare, or a factor model`,
+      workLimit,
+      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${workLimit.toExponential(1)} (maxWorkUnits); use fewer draws (at most about ${Math.max(1, Math.floor((draws * workLimit) / workUnits))}), fewer methods in compare, or a factor model`,
     );
   }
   const stored = (methods.length + 1) * draws * shape.n;
@@ -142,12 +142,16 @@ export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, m
   return workUnits;
 }
 
-export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed } = {}): StressPlan {
+/**
+ * `workLimit` replaces LIMITS.maxWorkUnits for requests whose draws are split over several
+ * CPU allowances (src/scale: the limit scales with the shards).
+ */
+export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; workLimit?: number } = {}): StressPlan {
   const draws = overrides.draws ?? proposal.resampling?.draws ?? 500;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal));
+  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.workLimit);
 
   const problem = prepareProblem(proposal, warnings);
   const history = problem.history;

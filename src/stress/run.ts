@@ -5,7 +5,7 @@ import { CAUTIONS } from '../schema/cautions.js';
 import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
-import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
+import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan } from './engine.js';
 import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
 import { pairedStdErr, type StressRun } from './paired.js';
@@ -24,6 +24,20 @@ export interface RunOptions {
   readonly onProgress?: (done: number, total: number) => void;
   /** Milliseconds since some origin; only used for meta.elapsedMs. */
   readonly clock?: () => number;
+  /** Computes the draws elsewhere (worker threads, shards; src/scale) instead of in this loop. */
+  readonly drawRunner?: DrawRunner;
+}
+
+/**
+ * Computes every draw of a plan as ranges run elsewhere and merged (src/scale). The merged
+ * accumulators hold the same slots as one loop, so the report is the same apart from `record`.
+ */
+export interface DrawRunner {
+  /** How the draws were split, recorded in the report's meta (meta.threads or meta.shards). */
+  readonly record: { readonly threads?: number; readonly shards?: number };
+  /** The work limit for the whole request (the single-request limit times the parallel parts); default LIMITS.maxWorkUnits. */
+  readonly workLimit?: number;
+  run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void): Promise<StressAccumulators>;
 }
 
 /** Share of draws the proposal's own method may fail in before the report is refused. */
@@ -67,8 +81,9 @@ function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions):
 export async function stressRun(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<{ report: Omit<Report, 'verdict'>; run: StressRun }> {
   const clock = options.clock ?? (() => 0);
   const started = clock();
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed });
-  const acc = computeDraws(plan, options);
+  const runner = options.drawRunner;
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, workLimit: runner?.workLimit });
+  const acc = runner ? await runner.run(plan, proposal, options.onProgress) : computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
     throw new TooManyFailuresError(
@@ -76,7 +91,9 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
     );
   }
   const digest = await inputDigest(proposal);
-  return { report: buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) }), run: { plan, acc } };
+  const report = buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) });
+  if (runner) report.meta = { ...report.meta, ...runner.record };
+  return { report, run: { plan, acc } };
 }
 
 export async function stressProposal(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<Omit<Report, 'verdict'>> {
@@ -100,6 +117,7 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     draws: candidate.run.plan.draws,
     seed: candidate.run.plan.seed,
     clock: options.clock,
+    drawRunner: options.drawRunner,
   });
   const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
   return { ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) };

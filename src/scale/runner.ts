@@ -1,0 +1,51 @@
+import type { Proposal } from '../schema/proposal.js';
+import { inputDigest } from '../stress/digest.js';
+import type { StressPlan } from '../stress/engine.js';
+import type { DrawRunner } from '../stress/run.js';
+import { fanOut } from './fan-out.js';
+import type { RangeRequest } from './range-job.js';
+import { splitDraws, type DrawRange } from './ranges.js';
+
+/** Where and how one range is computed: a worker thread, a Durable Object, a remote service. */
+export type RangeExecutor = (
+  request: RangeRequest,
+  context: { readonly range: DrawRange; readonly attempt: number; readonly signal: AbortSignal; readonly onProgress: (done: number) => void },
+) => Promise<Uint8Array>;
+
+export interface FanOutRunnerOptions {
+  /** Ranges to split the draws into (at most one per draw). */
+  readonly parts: number;
+  readonly execute: RangeExecutor;
+  /** 'thread' records meta.threads, 'shard' meta.shards. */
+  readonly unit: 'thread' | 'shard';
+  /** Work limit for the whole request (default: the single-request limit). */
+  readonly workLimit?: number;
+  readonly signal?: AbortSignal;
+  readonly retries?: number;
+}
+
+/**
+ * A DrawRunner (src/stress/run.ts) that splits the draws into ranges, computes them through
+ * `execute` and merges the partials: the one code path behind CLI threads, the CLI's remote
+ * shards and the Worker's Durable Object shards.
+ */
+export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { record: { threads?: number; shards?: number } } {
+  const runner = {
+    record: {} as { threads?: number; shards?: number },
+    workLimit: options.workLimit,
+    async run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void) {
+      const parts = Math.min(options.parts, plan.draws);
+      runner.record = options.unit === 'thread' ? { threads: parts } : { shards: parts };
+      const digest = await inputDigest(proposal);
+      return fanOut(
+        plan,
+        digest,
+        splitDraws(plan.draws, parts),
+        (range, attempt, signal, progress) =>
+          options.execute({ proposal, draws: plan.draws, seed: plan.seed, start: range.start, end: range.end }, { range, attempt, signal, onProgress: progress }),
+        { signal: options.signal, retries: options.retries, unit: options.unit, onProgress },
+      );
+    },
+  };
+  return runner;
+}
