@@ -14,6 +14,7 @@ import { classifyError } from '../stress/errors.js';
 import { checkProposal, optimizeProposal, stressProposal, type RunOptions } from '../stress/run.js';
 import { VERSION } from '../version.js';
 import { EXIT, parseJson, readInput, UsageError, writeOutput } from './io.js';
+import { SCALE_HELP, SCALE_OPTIONS, scaleFailureExit, scaleRunner } from './scale-options.js';
 
 const USAGE = `wobble ${VERSION} — robustness stress for proposed allocations
 
@@ -83,10 +84,11 @@ export async function main(argv: string[]): Promise<number> {
       seed: { type: 'string' },
       policy: { type: 'string' },
       baseline: { type: 'string' },
+      ...SCALE_OPTIONS,
     },
   });
   if (values.help) {
-    process.stdout.write(HELP[command] + '\n');
+    process.stdout.write(HELP[command] + (command === 'stress' || command === 'check' ? `\n\n${SCALE_HELP}` : '') + '\n');
     return EXIT.ok;
   }
   switch (command) {
@@ -106,7 +108,7 @@ export async function main(argv: string[]): Promise<number> {
   }
 }
 
-type Options = { format?: string; out?: string; draws?: string; seed?: string; policy?: string; baseline?: string };
+type Options = { format?: string; out?: string; draws?: string; seed?: string; policy?: string; baseline?: string; threads?: string; remote?: string; shards?: string };
 
 function requireFormat(format: string | undefined, allowed: string[], fallback: string): string {
   const f = format ?? fallback;
@@ -130,6 +132,8 @@ async function guarded(run: () => Promise<number>): Promise<number> {
   try {
     return await run();
   } catch (e) {
+    const scaleExit = scaleFailureExit(e);
+    if (scaleExit !== undefined) return scaleExit;
     const known = classifyError(e);
     if (!known) throw e;
     process.stderr.write(`wobble: ${known.status === 413 ? 'over a limit' : 'cannot be solved'}: ${known.detail}\n`);
@@ -145,7 +149,7 @@ function runOptions(values: Options): RunOptions {
     if (!Number.isInteger(draws) || draws < 1) throw new UsageError(`--draws must be a positive integer, got "${values.draws}"`);
   }
   const seed = values.seed === undefined ? undefined : /^-?\d+$/.test(values.seed) ? Number(values.seed) : values.seed;
-  return { draws, seed, clock: () => performance.now(), onProgress: progressBar() };
+  return { draws, seed, clock: () => performance.now(), onProgress: progressBar(), drawRunner: scaleRunner(values) };
 }
 
 /** A progress bar on stderr when it is a terminal (never in pipes or CI logs). */

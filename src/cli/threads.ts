@@ -1,0 +1,85 @@
+import { createRequire } from 'node:module';
+import { availableParallelism } from 'node:os';
+import { pathToFileURL } from 'node:url';
+import { Worker } from 'node:worker_threads';
+import type { RangeRequest } from '../scale/range-job.js';
+import { RangeCancelledError } from '../scale/errors.js';
+import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
+import { createAccumulators, runDraws } from '../stress/engine.js';
+import type { DrawRunner } from '../stress/run.js';
+import type { ThreadMessage } from './range-thread.js';
+
+/** Default --threads: the cores Node may use, at most this many (more threads than cores only add start-up and memory). */
+export const MAX_DEFAULT_THREADS = 8;
+
+/**
+ * Below this estimated work (work units, ~1 ns each on the reference machine: about a second of
+ * CPU) the default splits nothing: starting a thread and re-planning in it costs more than it saves.
+ * An explicit --threads N always splits.
+ */
+export const AUTO_THREADS_MIN_WORK = 1e9;
+
+export function defaultThreads(): number {
+  return Math.max(1, Math.min(MAX_DEFAULT_THREADS, availableParallelism()));
+}
+
+/**
+ * Starts a worker thread computing one range. From a TypeScript checkout (tsx, vitest) the thread
+ * loads the .ts entry through tsx's API; from built JavaScript it loads range-thread.js beside this file.
+ */
+function startRangeThread(request: RangeRequest): Worker {
+  const here = import.meta.url;
+  if (!here.endsWith('.ts')) return new Worker(new URL('./range-thread.js', here), { workerData: request });
+  const tsxPackage = createRequire(here).resolve('tsx/package.json');
+  const tsxApi = pathToFileURL(tsxPackage.replace(/package\.json$/, 'dist/esm/api/index.mjs')).href;
+  const entry = new URL('./range-thread.ts', here).href;
+  const source = `import(${JSON.stringify(tsxApi)}).then(({ tsImport }) => tsImport(${JSON.stringify(entry)}, ${JSON.stringify(here)}))`;
+  return new Worker(source, { eval: true, workerData: request });
+}
+
+/** Computes a range on a new worker thread; terminating the thread is how a range is stopped. */
+export const threadExecutor: RangeExecutor = (request, { signal, onProgress }) =>
+  new Promise<Uint8Array>((resolve, reject) => {
+    if (signal.aborted) return reject(new RangeCancelledError());
+    const worker = startRangeThread(request);
+    let settled = false;
+    const settle = (action: () => void): void => {
+      if (settled) return;
+      settled = true;
+      signal.removeEventListener('abort', onAbort);
+      action();
+      void worker.terminate();
+    };
+    const onAbort = (): void => settle(() => reject(new RangeCancelledError()));
+    signal.addEventListener('abort', onAbort, { once: true });
+    worker.on('message', (m: ThreadMessage) => {
+      if (m.type === 'progress') onProgress(m.done);
+      else if (m.type === 'done') settle(() => resolve(m.bytes));
+      else settle(() => reject(new Error(m.message)));
+    });
+    worker.on('error', (e) => settle(() => reject(e)));
+    worker.on('exit', (code) => settle(() => reject(new Error(`the thread exited with code ${code} before finishing`))));
+  });
+
+/**
+ * Splits the draws over `threads` worker threads, one contiguous range each, merged into the same
+ * report as one loop (meta.threads records the split). With `automatic` (no --threads given), small
+ * requests stay on this thread.
+ */
+export function threadRunner(threads: number, automatic: boolean): DrawRunner {
+  const split = fanOutRunner({ parts: threads, execute: threadExecutor, unit: 'thread' });
+  return {
+    get record() {
+      return split.record;
+    },
+    async run(plan, proposal, onProgress) {
+      if (automatic && plan.workUnits < AUTO_THREADS_MIN_WORK) {
+        split.record = {};
+        const acc = createAccumulators(plan);
+        runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
+        return acc;
+      }
+      return split.run(plan, proposal, onProgress);
+    },
+  };
+}
