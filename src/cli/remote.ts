@@ -1,4 +1,4 @@
-import { RangeRefusedError } from '../scale/errors.js';
+import { readPartialResponse } from '../scale/partial-response.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
 import { PARTIAL_MEDIA_TYPE } from '../scale/wire.js';
 import { shardedWorkLimit } from '../scale/limits.js';
@@ -6,18 +6,6 @@ import type { DrawRunner } from '../stress/run.js';
 
 /** The route of a deployed service that computes one range (src/http/shards.ts). */
 export const RANGE_ROUTE = '/v1/stress/range';
-
-/** A short reason from a problem+json (or any) error answer. */
-async function answerDetail(response: Response): Promise<string> {
-  const text = await response.text().catch(() => '');
-  try {
-    const problem = JSON.parse(text) as { detail?: unknown };
-    if (typeof problem.detail === 'string') return problem.detail;
-  } catch {
-    // not JSON: fall through to the raw text
-  }
-  return text.slice(0, 300) || response.statusText;
-}
 
 /**
  * Computes a range on a deployed service (POST {url}/v1/stress/range, Bearer token when given).
@@ -29,12 +17,7 @@ export function remoteExecutor(baseUrl: string, token: string | undefined, fetch
   return async (request, { signal }) => {
     const headers: Record<string, string> = { 'content-type': 'application/json', accept: PARTIAL_MEDIA_TYPE };
     if (token) headers.authorization = `Bearer ${token}`;
-    const response = await fetchImpl(url, { method: 'POST', headers, body: JSON.stringify(request), signal });
-    if (response.ok && (response.headers.get('content-type') ?? '').startsWith(PARTIAL_MEDIA_TYPE)) return new Uint8Array(await response.arrayBuffer());
-    const detail = response.ok ? `expected ${PARTIAL_MEDIA_TYPE}, got ${response.headers.get('content-type')}` : await answerDetail(response);
-    const message = `${url} answered ${response.status}: ${detail}`;
-    if (response.status >= 400 && response.status < 500 && response.status !== 408 && response.status !== 429) throw new RangeRefusedError(response.status, message);
-    throw new Error(message);
+    return readPartialResponse(await fetchImpl(url, { method: 'POST', headers, body: JSON.stringify(request), signal }), url);
   };
 }
 

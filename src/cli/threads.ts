@@ -5,7 +5,6 @@ import { Worker } from 'node:worker_threads';
 import type { RangeRequest } from '../scale/range-job.js';
 import { RangeCancelledError } from '../scale/errors.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
-import { createAccumulators, runDraws } from '../stress/engine.js';
 import type { DrawRunner } from '../stress/run.js';
 import type { ThreadMessage } from './range-thread.js';
 
@@ -67,19 +66,9 @@ export const threadExecutor: RangeExecutor = (request, { signal, onProgress }) =
  * requests stay on this thread.
  */
 export function threadRunner(threads: number, automatic: boolean): DrawRunner {
-  const split = fanOutRunner({ parts: threads, execute: threadExecutor, unit: 'thread' });
-  return {
-    get record() {
-      return split.record;
-    },
-    async run(plan, proposal, onProgress) {
-      if (automatic && plan.workUnits < AUTO_THREADS_MIN_WORK) {
-        split.record = {};
-        const acc = createAccumulators(plan);
-        runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
-        return acc;
-      }
-      return split.run(plan, proposal, onProgress);
-    },
-  };
+  return fanOutRunner({
+    parts: automatic ? (plan) => (plan.workUnits < AUTO_THREADS_MIN_WORK ? 'here' : threads) : threads,
+    execute: threadExecutor,
+    unit: 'thread',
+  });
 }

@@ -14,6 +14,7 @@ import { VERSION } from '../version.js';
 import { readJsonBody, type BodyResult } from './body.js';
 import { openApiDocument } from './openapi.js';
 import { problemResponse, summarise } from './problem.js';
+import { registerShardRoutes, shardProblem, shardRunOptions } from './shards.js';
 
 /**
  * The HTTP edge: parse, validate, call the core, shape errors as problem+json.
@@ -43,6 +44,7 @@ export function createApp(): Hono {
     return respond(async () => c.json(await optimizeProposal(validation.proposal, validation.warnings, clock)));
   });
 
+  registerShardRoutes(app);
   app.post('/v1/stress', async (c) => {
     const format = c.req.query('format') ?? 'json';
     if (!['json', 'html', 'markdown'].includes(format)) return problemResponse(400, `unknown format "${format}"; expected json, html or markdown`);
@@ -51,7 +53,7 @@ export function createApp(): Hono {
     const validation = validateProposal(body.value);
     if (!validation.ok) return invalid(validation.problems);
     return respond(async () => {
-      const report = await stressProposal(validation.proposal, validation.warnings, { clock });
+      const report = await stressProposal(validation.proposal, validation.warnings, { clock, ...shardRunOptions(c.req.raw, c.env) });
       if (format === 'html') return c.html(renderReportHtml(report));
       if (format === 'markdown') return c.text(renderReportMarkdown(report), 200, { 'content-type': 'text/markdown; charset=utf-8' });
       return c.json(report);
@@ -96,6 +98,8 @@ async function respond(run: () => Promise<Response>): Promise<Response> {
   try {
     return await run();
   } catch (e) {
+    const sharding = shardProblem(e);
+    if (sharding) return sharding;
     const known = classifyError(e);
     if (!known) throw e;
     return problemResponse(known.status, known.detail, known.path ? { errors: [problem(known.path, known.detail, known.status === 413 ? 'limit' : 'unsolvable')] } : {});

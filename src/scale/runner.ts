@@ -1,6 +1,6 @@
 import type { Proposal } from '../schema/proposal.js';
 import { inputDigest } from '../stress/digest.js';
-import type { StressPlan } from '../stress/engine.js';
+import { createAccumulators, runDraws, type StressPlan } from '../stress/engine.js';
 import type { DrawRunner } from '../stress/run.js';
 import { fanOut } from './fan-out.js';
 import type { RangeRequest } from './range-job.js';
@@ -13,8 +13,11 @@ export type RangeExecutor = (
 ) => Promise<Uint8Array>;
 
 export interface FanOutRunnerOptions {
-  /** Ranges to split the draws into (at most one per draw). */
-  readonly parts: number;
+  /**
+   * Ranges to split the draws into (at most one per draw), or a choice made from the plan's
+   * estimated work: 'here' computes the draws in this loop, unsplit (nothing recorded in meta).
+   */
+  readonly parts: number | ((plan: StressPlan) => number | 'here');
   readonly execute: RangeExecutor;
   /** 'thread' records meta.threads, 'shard' meta.shards. */
   readonly unit: 'thread' | 'shard';
@@ -34,7 +37,14 @@ export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { recor
     record: {} as { threads?: number; shards?: number },
     workLimit: options.workLimit,
     async run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void) {
-      const parts = Math.min(options.parts, plan.draws);
+      const chosen = typeof options.parts === 'number' ? options.parts : options.parts(plan);
+      if (chosen === 'here') {
+        runner.record = {};
+        const acc = createAccumulators(plan);
+        runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
+        return acc;
+      }
+      const parts = Math.min(chosen, plan.draws);
       runner.record = options.unit === 'thread' ? { threads: parts } : { shards: parts };
       const digest = await inputDigest(proposal);
       return fanOut(
