@@ -47,8 +47,15 @@ export interface RangeComputeOptions {
   readonly cancelled?: () => boolean;
   /** Draws finished so far in this range. */
   readonly onProgress?: (done: number) => void;
-  /** Estimated work units per chunk between pauses (default 2e8, about a fifth of a second). */
-  readonly chunkWork?: number;
+}
+
+/**
+ * Draws per chunk between pauses: about 2e8 work units (a fifth of a second), but at least 10
+ * draws (each chunk re-allocates the per-range draw buffers, up to N² doubles) and at most 50
+ * (the work estimate under-counts fixed per-draw costs of small problems).
+ */
+function chunkDraws(workPerDraw: number): number {
+  return Math.min(50, Math.max(10, Math.floor(2e8 / Math.max(workPerDraw, 1))));
 }
 
 /**
@@ -62,8 +69,7 @@ export async function computeRange(request: RangeRequest, options: RangeComputeO
   if (!validation.ok) throw new RangeProposalError(validation.problems);
   const plan = planStress(validation.proposal, validation.warnings, { draws: request.draws, seed: request.seed, workLimit: rangeWorkLimit(request) });
   const acc = createAccumulators(plan);
-  const perDraw = plan.workUnits / plan.draws;
-  const chunk = options.pause ? Math.max(1, Math.floor((options.chunkWork ?? 2e8) / Math.max(perDraw, 1))) : request.end - request.start;
+  const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;
   for (let from = request.start; from < request.end; from += chunk) {
     if (options.cancelled?.()) throw new RangeCancelledError(`cancelled after ${from - request.start} of ${request.end - request.start} draws`);
     const to = Math.min(request.end, from + chunk);
