@@ -26,21 +26,26 @@ export function defaultThreads(): number {
  * Starts a worker thread computing one range. From a TypeScript checkout (tsx, vitest) the thread
  * loads the .ts entry through tsx's API; from built JavaScript it loads range-thread.js beside this file.
  */
-function startRangeThread(request: RangeRequest): Worker {
+function startRangeThread(request: RangeRequest, entry?: URL): Worker {
+  if (entry) return new Worker(entry, { workerData: request });
   const here = import.meta.url;
   if (!here.endsWith('.ts')) return new Worker(new URL('./range-thread.js', here), { workerData: request });
   const tsxPackage = createRequire(here).resolve('tsx/package.json');
   const tsxApi = pathToFileURL(tsxPackage.replace(/package\.json$/, 'dist/esm/api/index.mjs')).href;
-  const entry = new URL('./range-thread.ts', here).href;
-  const source = `import(${JSON.stringify(tsxApi)}).then(({ tsImport }) => tsImport(${JSON.stringify(entry)}, ${JSON.stringify(here)}))`;
+  const source = `import(${JSON.stringify(tsxApi)}).then(({ tsImport }) => tsImport(${JSON.stringify(new URL('./range-thread.ts', here).href)}, ${JSON.stringify(here)}))`;
   return new Worker(source, { eval: true, workerData: request });
 }
 
-/** Computes a range on a new worker thread; terminating the thread is how a range is stopped. */
-export const threadExecutor: RangeExecutor = (request, { signal, onProgress }) =>
+/**
+ * Computes a range on a new worker thread; terminating the thread is how a range is stopped.
+ * `entry` overrides the thread's module (e.g. a bundled range-thread for benchmarks).
+ */
+export const threadExecutor =
+  (entry?: URL): RangeExecutor =>
+  (request, { signal, onProgress }) =>
   new Promise<Uint8Array>((resolve, reject) => {
     if (signal.aborted) return reject(new RangeCancelledError());
-    const worker = startRangeThread(request);
+    const worker = startRangeThread(request, entry);
     let settled = false;
     const settle = (action: () => void): void => {
       if (settled) return;
@@ -65,10 +70,10 @@ export const threadExecutor: RangeExecutor = (request, { signal, onProgress }) =
  * report as one loop (meta.threads records the split). With `automatic` (no --threads given), small
  * requests stay on this thread.
  */
-export function threadRunner(threads: number, automatic: boolean): DrawRunner {
+export function threadRunner(threads: number, automatic: boolean, entry?: URL): DrawRunner {
   return fanOutRunner({
     parts: automatic ? (plan) => (plan.workUnits < AUTO_THREADS_MIN_WORK ? 'here' : threads) : threads,
-    execute: threadExecutor,
+    execute: threadExecutor(entry),
     unit: 'thread',
   });
 }

@@ -1,5 +1,6 @@
 import { jsonSchema } from '../schema/json-schema.js';
 import { VERSION } from '../version.js';
+import { shardOpenApiPaths, SHARDS_QUERY_PARAMETER } from './shards.js';
 
 /** OpenAPI 3.1 description, built from the same zod schemas as validation. */
 export function openApiDocument(): Record<string, unknown> {
@@ -32,6 +33,7 @@ export function openApiDocument(): Record<string, unknown> {
       '/v1/stress': {
         post: {
           summary: 'Resample the inputs, re-optimise, report stability',
+          parameters: [SHARDS_QUERY_PARAMETER],
           requestBody: proposalBody,
           responses: { '200': { description: 'report', content: { 'application/json': { schema: { $ref: '#/components/schemas/Report' } } } }, ...errors },
         },
@@ -67,6 +69,7 @@ export function openApiDocument(): Record<string, unknown> {
           responses: { '200': { description: 'schema' }, '404': problem },
         },
       },
+      ...shardOpenApiPaths(problem),
     },
     components: {
       schemas: {

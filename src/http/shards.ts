@@ -139,3 +139,47 @@ export function shardProblem(e: unknown): Response | undefined {
   if (e instanceof RangeCancelledError) return problemResponse(409, e.message, { title: 'Cancelled', type: 'https://wobble.invalid/problems/cancelled' });
   return undefined;
 }
+
+/** OpenAPI fragments for the scale-out routes (merged into openapi.ts). */
+export const SHARDS_QUERY_PARAMETER = {
+  name: 'shards',
+  in: 'query',
+  required: false,
+  description: `Compute the draws in N Durable Objects (1..${MAX_SHARDS}) and merge them: the same report, with meta.shards = N. Without it the service shards by itself above an estimated 5e9 operations when the binding is configured. 501 without the STRESS_SHARD binding.`,
+  schema: { type: 'integer', minimum: 1, maximum: MAX_SHARDS },
+} as const;
+
+export function shardOpenApiPaths(problem: Record<string, unknown>): Record<string, unknown> {
+  return {
+    '/v1/stress/range': {
+      post: {
+        summary: 'Compute one range [start, end) of a stress request’s draws and answer its partial result (for fan-out and merge; README "Scaling out")',
+        requestBody: {
+          required: true,
+          content: {
+            'application/json': {
+              schema: {
+                type: 'object',
+                required: ['proposal', 'draws', 'seed', 'start', 'end'],
+                additionalProperties: false,
+                properties: {
+                  proposal: { $ref: '#/components/schemas/Proposal' },
+                  draws: { type: 'integer', minimum: 1, description: 'Draws of the whole request.' },
+                  seed: { type: ['string', 'integer'], description: 'Seed of the whole request.' },
+                  start: { type: 'integer', minimum: 0 },
+                  end: { type: 'integer', minimum: 1, description: 'One past the last draw; start < end ≤ draws.' },
+                },
+              },
+            },
+          },
+        },
+        responses: {
+          '200': { description: 'the binary partial result', content: { [PARTIAL_MEDIA_TYPE]: { schema: { type: 'string', format: 'binary' } } } },
+          '400': problem,
+          '413': problem,
+          '422': problem,
+        },
+      },
+    },
+  };
+}
