@@ -13,7 +13,7 @@ export const SCALE_OPTIONS = {
 } as const;
 
 export const SCALE_HELP = `--threads N splits the draws over N worker threads (default: the available cores, at most 8,
-for runs estimated at over a second of work; 1 disables). --remote URL --shards N sends N ranges of
+for runs estimated at over a second of work, ten seconds from TypeScript sources; 1 disables). --remote URL --shards N sends N ranges of
 draws to a deployed wobble service (token from WOBBLE_API_TOKEN) and merges them here. The report
 is the same either way; meta.threads / meta.shards record the split.`;
 

@@ -14,9 +14,15 @@ export const MAX_DEFAULT_THREADS = 8;
 /**
  * Below this estimated work (work units, ~1 ns each on the reference machine: about a second of
  * CPU) the default splits nothing: starting a thread and re-planning in it costs more than it saves.
- * An explicit --threads N always splits.
+ * From TypeScript sources every thread also starts tsx and compiles the core (seconds), so there
+ * the default waits for ten times as much work. An explicit --threads N always splits.
  */
 export const AUTO_THREADS_MIN_WORK = 1e9;
+export const AUTO_THREADS_MIN_WORK_FROM_SOURCES = 1e10;
+
+function automaticMinWork(): number {
+  return import.meta.url.endsWith('.ts') ? AUTO_THREADS_MIN_WORK_FROM_SOURCES : AUTO_THREADS_MIN_WORK;
+}
 
 export function defaultThreads(): number {
   return Math.max(1, Math.min(MAX_DEFAULT_THREADS, availableParallelism()));
@@ -72,7 +78,7 @@ export const threadExecutor =
  */
 export function threadRunner(threads: number, automatic: boolean, entry?: URL): DrawRunner {
   return fanOutRunner({
-    parts: automatic ? (plan) => (plan.workUnits < AUTO_THREADS_MIN_WORK ? 'here' : threads) : threads,
+    parts: automatic ? (plan) => (plan.workUnits < (entry ? AUTO_THREADS_MIN_WORK : automaticMinWork()) ? 'here' : threads) : threads,
     execute: threadExecutor(entry),
     unit: 'thread',
   });

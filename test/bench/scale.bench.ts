@@ -3,6 +3,7 @@
  *
  *   npm run bench:scale                 (tsx test/bench/scale.bench.ts)
  *   BENCH_SCALE_QUICK=1 npm run bench:scale   smaller draws everywhere (a few minutes on a busy machine)
+ *   BENCH_SCALE_PARTS=threads npm run bench:scale   only some parts (wire, threads, workerd)
  *
  * 1. Wire form of a partial result: binary (src/scale/wire.ts) against the same content as JSON
  *    (numbers as JSON arrays, NaN as null): bytes, encode and decode time (medians of 5).
@@ -23,7 +24,8 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { Miniflare } from 'miniflare';
-import { threadRunner } from '../../src/cli/threads.js';
+import { threadExecutor, threadRunner } from '../../src/cli/threads.js';
+import { fanOutRunner } from '../../src/scale/runner.js';
 import { PartialMerger } from '../../src/scale/merge.js';
 import { WIRE_FIELDS, type WireCursor } from '../../src/scale/wire-fields.js';
 import { decodePartial, encodePartial } from '../../src/scale/wire.js';
@@ -38,6 +40,8 @@ import { demoProposal } from '../helpers/proposals.js';
 import { factorCase, threadsCase } from './scale-problems.js';
 
 const QUICK = process.env.BENCH_SCALE_QUICK === '1';
+/** BENCH_SCALE_PARTS=wire,threads,workerd runs only those parts (default: all). */
+const PARTS = new Set((process.env.BENCH_SCALE_PARTS ?? 'wire,threads,workerd').split(','));
 const root = new URL('../..', import.meta.url).pathname;
 const MB = 1e6;
 
@@ -137,23 +141,29 @@ async function threads(): Promise<void> {
   console.log('   (threads load a bundled range-thread.mjs, as a built install does; from TypeScript sources every thread also starts tsx)');
   let reference = 0;
   let expected = '';
-  for (const n of [1, 2, 4]) {
+  // "1 (here)" runs on this thread, its JIT already warm from part 1; "1 (thread)" is one cold
+  // worker thread, like a fresh CLI process. Speed-ups are against the cold single thread.
+  for (const [label, runner] of [
+    ['1 (here)', undefined],
+    ['1 (thread)', fanOutRunner({ parts: 1, execute: threadExecutor(entry), unit: 'thread' })],
+    ['2', threadRunner(2, false, entry)],
+    ['4', threadRunner(4, false, entry)],
+  ] as const) {
     const times: number[] = [];
     let bytes = '';
     for (let r = 0; r < 2; r++) {
       const t = performance.now();
-      const report = await stressProposal(v.proposal, v.warnings, n > 1 ? { drawRunner: threadRunner(n, false, entry) } : {});
+      const report = await stressProposal(v.proposal, v.warnings, runner ? { drawRunner: runner } : {});
       times.push(performance.now() - t);
       const { elapsedMs: _e, threads: _t, ...meta } = report.meta;
       bytes = JSON.stringify({ ...report, meta });
     }
     const wall = Math.min(...times) / 1000;
-    if (n === 1) {
-      reference = wall;
-      expected = bytes;
-    }
+    if (label === '1 (here)') expected = bytes;
+    if (label === '1 (thread)') reference = wall;
+    const speedUp = reference > 0 ? `${(reference / wall).toFixed(2)}×` : '—';
     console.log(
-      `   threads ${n}: ${wall.toFixed(2)} s wall (best of 2)   speed-up ${(reference / wall).toFixed(2)}×   same report: ${bytes === expected ? 'yes' : 'NO'}   load ${load()}`,
+      `   threads ${label.padEnd(10)} ${wall.toFixed(2).padStart(6)} s wall (best of 2)   speed-up ${speedUp.padStart(6)}   same report: ${bytes === expected ? 'yes' : 'NO'}   load ${load()}`,
     );
   }
   console.log('   goal: ≥ 1.6× with 2 threads on 2 otherwise idle cores');
@@ -177,6 +187,8 @@ interface Pieces {
   readonly planSeconds: number;
   readonly drawSeconds: number;
   readonly partialBytesPerDraw: number;
+  /** Recording one partial: a fixed part (the channel sums of every batch) and a part per draw (its rows). */
+  readonly mergeSecondsPerPartial: number;
   readonly mergeSecondsPerDraw: number;
   readonly reportSeconds: number;
 }
@@ -216,19 +228,26 @@ async function workerd(p: ProposalInput, draws: number): Promise<Pieces> {
   const drawSeconds = (performance.now() - t1) / 1000 / sample;
   const digest = await inputDigest(v.proposal);
   const bytes = encodePartial(plan, acc, { start: 0, end: sample }, digest);
-  const t2 = performance.now();
-  const merger = new PartialMerger(plan, digest, [
-    { index: 0, start: 0, end: sample },
-    { index: 1, start: sample, end: plan.draws },
-  ]);
-  merger.add({ index: 0, start: 0, end: sample }, bytes);
-  const mergeSecondsPerDraw = (performance.now() - t2) / 1000 / sample;
+  const mergeTime = (draws: number): number => {
+    const part = draws === sample ? bytes : encodePartial(plan, acc, { start: 0, end: draws }, digest);
+    const ranges = [
+      { index: 0, start: 0, end: draws },
+      { index: 1, start: draws, end: plan.draws },
+    ];
+    const t = performance.now();
+    new PartialMerger(plan, digest, ranges).add(ranges[0], part);
+    return (performance.now() - t) / 1000;
+  };
+  const mergeOne = mergeTime(1);
+  const mergeSample = mergeTime(sample);
+  const mergeSecondsPerDraw = Math.max(0, (mergeSample - mergeOne) / (sample - 1));
+  const mergeSecondsPerPartial = Math.max(0, mergeOne - mergeSecondsPerDraw);
   const full = createAccumulators(plan);
   runDraws(plan, 0, Math.min(plan.draws, 40), full);
   const t3 = performance.now();
   buildReport(plan, full, { version: 'bench', inputDigest: digest, elapsedMs: 0 });
   const reportSeconds = (performance.now() - t3) / 1000;
-  return { planSeconds, drawSeconds, partialBytesPerDraw: bytes.length / sample, mergeSecondsPerDraw, reportSeconds };
+  return { planSeconds, drawSeconds, partialBytesPerDraw: bytes.length / sample, mergeSecondsPerPartial, mergeSecondsPerDraw, reportSeconds };
 }
 
 // ---- 4. model ------------------------------------------------------------------------------
@@ -238,23 +257,26 @@ function model(pieces: Pieces, draws: number): void {
   const latency = 0.05; // assumption: s to start an object and route a request to it
   console.log(`\n4. Modelled deployed time, ${draws} draws (pieces measured in Node here; deployed CPUs differ)`);
   console.log(
-    `   plan ${pieces.planSeconds.toFixed(2)} s (coordinator and every shard), ${(pieces.drawSeconds * 1000).toFixed(1)} ms/draw, partial ${(pieces.partialBytesPerDraw / 1e3).toFixed(1)} kB/draw, merge ${(pieces.mergeSecondsPerDraw * 1000).toFixed(2)} ms/draw, report ${pieces.reportSeconds.toFixed(2)} s`,
+    `   plan ${pieces.planSeconds.toFixed(2)} s (coordinator and every shard), ${(pieces.drawSeconds * 1000).toFixed(1)} ms/draw, partial ${(pieces.partialBytesPerDraw / 1e3).toFixed(1)} kB/draw, merge ${(pieces.mergeSecondsPerPartial * 1000).toFixed(0)} ms/partial + ${(pieces.mergeSecondsPerDraw * 1000).toFixed(2)} ms/draw, report ${pieces.reportSeconds.toFixed(2)} s`,
   );
   console.log(`   assumptions: ${bandwidth / MB} MB/s object → Worker, ${latency * 1000} ms to reach an object; objects on separate machines run truly in parallel`);
   for (const shards of [1, 4, 8]) {
     const perShard = Math.ceil(draws / shards);
     const shardTime = latency + pieces.planSeconds + perShard * pieces.drawSeconds;
     const transfer = (draws * pieces.partialBytesPerDraw) / bandwidth;
-    const total = pieces.planSeconds + shardTime + transfer + draws * pieces.mergeSecondsPerDraw + pieces.reportSeconds;
+    const merge = shards * pieces.mergeSecondsPerPartial + draws * pieces.mergeSecondsPerDraw;
+    const total = pieces.planSeconds + shardTime + transfer + merge + pieces.reportSeconds;
     const cpuPerShard = pieces.planSeconds + perShard * pieces.drawSeconds;
-    console.log(`   shards ${shards}: ≈ ${total.toFixed(1)} s wall, ${cpuPerShard.toFixed(1)} s CPU in each shard`);
+    console.log(`   shards ${shards}: ≈ ${total.toFixed(1)} s wall (merge ${merge.toFixed(1)} s), ${cpuPerShard.toFixed(1)} s CPU in each shard`);
   }
 }
 
 console.log(`wobble bench:scale${QUICK ? ' (quick: reduced draws)' : ''} — ${new Date().toISOString()}`);
-await wireForm();
-await threads();
-const factorDraws = QUICK ? 200 : 1500;
-const pieces = await workerd(factorCase(2000, 8, factorDraws), factorDraws);
-model(pieces, factorDraws);
-model(pieces, 1500);
+if (PARTS.has('wire')) await wireForm();
+if (PARTS.has('threads')) await threads();
+if (PARTS.has('workerd')) {
+  const factorDraws = QUICK ? 200 : 1500;
+  const pieces = await workerd(factorCase(2000, 8, factorDraws), factorDraws);
+  model(pieces, factorDraws);
+  if (factorDraws !== 1500) model(pieces, 1500);
+}
