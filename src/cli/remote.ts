@@ -1,7 +1,7 @@
 import { readPartialResponse } from '../scale/partial-response.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
 import { PARTIAL_MEDIA_TYPE } from '../scale/wire.js';
-import { shardedWorkLimit } from '../scale/limits.js';
+import { shardedWorkShares } from '../scale/limits.js';
 import type { DrawRunner } from '../stress/run.js';
 
 /** The route of a deployed service that computes one range (src/http/shards.ts). */
@@ -28,5 +28,5 @@ export function remoteExecutor(baseUrl: string, token: string | undefined, fetch
  * (each range is still checked by the service against its own limit).
  */
 export function remoteRunner(baseUrl: string, shards: number, token: string | undefined, fetchImpl?: typeof fetch): DrawRunner {
-  return fanOutRunner({ parts: shards, execute: remoteExecutor(baseUrl, token, fetchImpl), unit: 'shard', workLimit: shardedWorkLimit(shards) });
+  return fanOutRunner({ parts: shards, execute: remoteExecutor(baseUrl, token, fetchImpl), unit: 'shard', workShares: shardedWorkShares(shards) });
 }

@@ -1,6 +1,6 @@
 import type { Hono } from 'hono';
 import { RangeCancelledError, ShardFailedError } from '../scale/errors.js';
-import { automaticShards, MAX_SHARDS, shardedWorkLimit } from '../scale/limits.js';
+import { automaticShards, MAX_SHARDS, shardedWorkShares } from '../scale/limits.js';
 import { readPartialResponse } from '../scale/partial-response.js';
 import { computeRange, RangeProposalError, RangeRequestSchema, type RangeComputeOptions } from '../scale/range-job.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
@@ -118,7 +118,7 @@ export function shardRunOptions(request: Request, env: unknown): Pick<RunOptions
       parts: shards ?? ((plan) => (automaticShards(plan.workUnits, plan.draws) > 1 ? automaticShards(plan.workUnits, plan.draws) : 'here')),
       execute: durableObjectExecutor(ns),
       unit: 'shard',
-      workLimit: shardedWorkLimit(shards ?? MAX_SHARDS),
+      workShares: shardedWorkShares(shards ?? MAX_SHARDS),
       signal: request.signal,
     }),
   };

@@ -1,5 +1,3 @@
-import { LIMITS } from '../schema/limits.js';
-
 /**
  * Limits of a request whose draws are split into shards (ranges computed apart, each with its own
  * CPU allowance). See README "Scaling out".
@@ -22,10 +20,10 @@ export function automaticShards(workUnits: number, draws: number): number {
 }
 
 /**
- * Work limit of a request split into `shards`: the single-request limit per shard. Each range is
- * checked again where it runs, so no shard does more than one request's work. The stored-values
- * limit does NOT scale: the merge holds every draw's slots in one isolate (128 MB).
+ * A request split into `shards` may do `shards` times the single-request work: each range is
+ * checked again where it runs (rangeWorkShares), so no shard does more than one request's work.
+ * The memory limit does NOT scale: the merge holds every draw's slots in one isolate (128 MB).
  */
-export function shardedWorkLimit(shards: number, singleRequestLimit: number = LIMITS.maxWorkUnits): number {
-  return singleRequestLimit * shards;
+export function shardedWorkShares(shards: number): number {
+  return shards;
 }

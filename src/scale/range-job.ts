@@ -36,8 +36,8 @@ export class RangeProposalError extends Error {
  * Work a range may do: the single-request limit. A range of r of B draws is allowed when its share
  * r/B of the whole request's estimated work fits, i.e. the whole request's work ≤ limit · B/r.
  */
-export function rangeWorkLimit(request: { draws: number; start: number; end: number }, singleRequestLimit: number = LIMITS.maxWorkUnits): number {
-  return (singleRequestLimit * request.draws) / (request.end - request.start);
+export function rangeWorkShares(request: { draws: number; start: number; end: number }): number {
+  return request.draws / (request.end - request.start);
 }
 
 export interface RangeComputeOptions {
@@ -67,7 +67,7 @@ function chunkDraws(workPerDraw: number): number {
 export async function computeRange(request: RangeRequest, options: RangeComputeOptions = {}): Promise<Uint8Array> {
   const validation = validateProposal(request.proposal);
   if (!validation.ok) throw new RangeProposalError(validation.problems);
-  const plan = planStress(validation.proposal, validation.warnings, { draws: request.draws, seed: request.seed, workLimit: rangeWorkLimit(request) });
+  const plan = planStress(validation.proposal, validation.warnings, { draws: request.draws, seed: request.seed, workShares: rangeWorkShares(request) });
   const acc = createAccumulators(plan);
   const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;
   for (let from = request.start; from < request.end; from += chunk) {

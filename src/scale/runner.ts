@@ -21,8 +21,8 @@ export interface FanOutRunnerOptions {
   readonly execute: RangeExecutor;
   /** 'thread' records meta.threads, 'shard' meta.shards. */
   readonly unit: 'thread' | 'shard';
-  /** Work limit for the whole request (default: the single-request limit). */
-  readonly workLimit?: number;
+  /** CPU allowances the work is spread over (default 1: the single-request work limit holds). */
+  readonly workShares?: number;
   readonly signal?: AbortSignal;
   readonly retries?: number;
 }
@@ -35,7 +35,7 @@ export interface FanOutRunnerOptions {
 export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { record: { threads?: number; shards?: number } } {
   const runner = {
     record: {} as { threads?: number; shards?: number },
-    workLimit: options.workLimit,
+    workShares: options.workShares,
     async run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void) {
       const chosen = typeof options.parts === 'number' ? options.parts : options.parts(plan);
       if (chosen === 'here') {

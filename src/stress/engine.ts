@@ -119,7 +119,9 @@ function workShape(proposal: Proposal, scheme: Scheme, methods: readonly MethodS
  * estimated work. (Optimize checks one draw: it counts the base solves, in every channel, which
  * over-counts a little.)
  */
-export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], workLimit: number = LIMITS.maxWorkUnits): number {
+export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], workShares = 1): number {
+  // A request split over several CPU allowances (src/scale) may do the single-request work in each.
+  const workLimit = LIMITS.maxWorkUnits * workShares;
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
   const shape = workShape(proposal, scheme, methods);
@@ -143,15 +145,15 @@ export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, m
 }
 
 /**
- * `workLimit` replaces LIMITS.maxWorkUnits for requests whose draws are split over several
- * CPU allowances (src/scale: the limit scales with the shards).
+ * `workShares`: the request's draws are split over this many CPU allowances (shards, src/scale),
+ * each held to the single-request work limit, so the whole may do that many times the work.
  */
-export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; workLimit?: number } = {}): StressPlan {
+export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; workShares?: number } = {}): StressPlan {
   const draws = overrides.draws ?? proposal.resampling?.draws ?? 500;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.workLimit);
+  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.workShares);
 
   const problem = prepareProblem(proposal, warnings);
   const history = problem.history;

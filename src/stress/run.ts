@@ -35,8 +35,8 @@ export interface RunOptions {
 export interface DrawRunner {
   /** How the draws were split, recorded in the report's meta (meta.threads or meta.shards). */
   readonly record: { readonly threads?: number; readonly shards?: number };
-  /** The work limit for the whole request (the single-request limit times the parallel parts); default LIMITS.maxWorkUnits. */
-  readonly workLimit?: number;
+  /** CPU allowances the work is spread over (shards): the work limit is the single-request limit times this; default 1. */
+  readonly workShares?: number;
   run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void): Promise<StressAccumulators>;
 }
 
@@ -82,7 +82,7 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
   const clock = options.clock ?? (() => 0);
   const started = clock();
   const runner = options.drawRunner;
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, workLimit: runner?.workLimit });
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, workShares: runner?.workShares });
   const acc = runner ? await runner.run(plan, proposal, options.onProgress) : computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
