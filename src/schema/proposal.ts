@@ -171,8 +171,11 @@ export const PolicyRuleSchema = z.strictObject({
       'volatility-band-width',
       'mean-driven-share',
       'max-weight-sd',
+      'forecast-break-even-std-errs',
     ])
-    .describe('The report figure the rule constrains.'),
+    .describe(
+      "The report figure the rule constrains. forecast-break-even-std-errs is the smallest break-even forecast shift of any asset, in standard errors of its forecast (exact, so its stdErr is 0; use it with min).",
+    ),
   method: z
     .enum(METHOD_NAMES)
     .optional()

@@ -70,6 +70,55 @@ export const WeightBandSchema = z.strictObject({
   proposalPercentile: z.number().min(0).max(100).describe("Where the proposal's weight falls in the resampled distribution (mid-rank percentile, 0–100)."),
 });
 
+const patternSide = z.enum(['lower', 'inside', 'upper']);
+
+export const PatternChangeSchema = z
+  .strictObject({
+    kind: z.enum(['asset', 'group']).describe('Whether an asset or a group constraint changes state.'),
+    name: z.string().describe('The asset id or the group name.'),
+    from: patternSide.describe('State at the base optimum: at its lower bound (a group: at its min), strictly inside, or at its upper bound (a group: at its max).'),
+    to: patternSide.describe('State just past the shift.'),
+  })
+  .describe('One change of the active pattern at a break-even shift.');
+
+export const ForecastSensitivitySchema = z
+  .strictObject({
+    asset: z.string().describe('The asset whose mean forecast is shifted (all other inputs held at their base values).'),
+    stdErr: z
+      .number()
+      .min(0)
+      .describe("Annual standard error of this asset's mean forecast: σ_i·√p/√T (σ_i annual volatility, p periods per year, T observations) for a history or moments; p × the view's stdErr where views are given."),
+    shiftUp: z
+      .number()
+      .min(0)
+      .nullable()
+      .describe("Smallest increase of the annual mean forecast at which the optimum's active pattern (each asset at its lower bound / inside / at its upper bound; each group at its min / inside / at its max) first changes; null when no increase, however large, changes it."),
+    shiftDown: z
+      .number()
+      .min(0)
+      .nullable()
+      .describe('Smallest decrease (a positive number) of the annual mean forecast at which the active pattern first changes; null when no decrease changes it.'),
+    shiftUpStdErrs: z.number().min(0).nullable().describe('shiftUp / stdErr (null when shiftUp is null or stdErr is 0).'),
+    shiftDownStdErrs: z.number().min(0).nullable().describe('shiftDown / stdErr (null when shiftDown is null or stdErr is 0).'),
+    turnoverPerStdErr: z
+      .strictObject({
+        up: z.number().min(0).describe('Forecast raised by one stdErr.'),
+        down: z.number().min(0).describe('Forecast lowered by one stdErr.'),
+      })
+      .describe('One-way turnover ½Σ|w(μ ± stdErr·e_i) − w(μ)| of the optimum, with any breakpoints within one stdErr crossed.'),
+    changesUp: z.array(PatternChangeSchema).describe('What changes at shiftUp (empty when shiftUp is null).'),
+    changesDown: z.array(PatternChangeSchema).describe('What changes at shiftDown (empty when shiftDown is null).'),
+    shiftTolerance: z
+      .number()
+      .min(0)
+      .describe('Absolute accuracy of shiftUp and shiftDown (annual); 0 for the exact parametric step of mean-variance, the bracketing tolerance for Kelly on scenarios.'),
+    dWeightsDMean: z
+      .array(z.number())
+      .optional()
+      .describe('∂w/∂μ_i per unit of annual mean on the base active pattern (mean-variance only), in the order of `assets`.'),
+  })
+  .describe("How far one asset's return forecast must move before the optimiser changes its mind, and how that compares with how well the forecast is known.");
+
 export const MethodReportSchema = z.strictObject({
   method: MethodSpecSchema,
   base: BaseOptimumSchema,
@@ -91,6 +140,10 @@ export const MethodReportSchema = z.strictObject({
   outsideBandShare: EstimateSchema.describe("Share of assets whose proposed weight lies outside this method's p05–p95 band."),
   maxWeightSd: EstimateSchema.describe('Largest standard deviation of any asset’s weight across draws.'),
   failedDraws: z.int().min(0),
+  forecastSensitivity: z
+    .array(ForecastSensitivitySchema)
+    .optional()
+    .describe('Break-even forecast shifts per asset at the base inputs (exact, no resampling); present for methods that use the means.'),
 });
 
 export const ReportMetaSchema = z.strictObject({
@@ -161,7 +214,13 @@ export const ReportSchema = z
 export const OptimizeResponseSchema = z.strictObject({
   meta: z.strictObject({ version: z.string(), inputDigest: z.string(), periodsPerYear: z.number(), elapsedMs: z.number() }),
   assets: z.array(z.string()),
-  methods: z.array(z.strictObject({ method: MethodSpecSchema, base: BaseOptimumSchema })),
+  methods: z.array(
+    z.strictObject({
+      method: MethodSpecSchema,
+      base: BaseOptimumSchema,
+      forecastSensitivity: MethodReportSchema.shape.forecastSensitivity,
+    }),
+  ),
   warnings: z.array(WarningSchema),
   cautions: z.array(z.string()),
 });
@@ -170,5 +229,7 @@ export type Report = z.infer<typeof ReportSchema>;
 export type MethodReport = z.infer<typeof MethodReportSchema>;
 export type BaseOptimum = z.infer<typeof BaseOptimumSchema>;
 export type Stat = z.infer<typeof StatSchema>;
+export type ForecastSensitivity = z.infer<typeof ForecastSensitivitySchema>;
+export type PatternChange = z.infer<typeof PatternChangeSchema>;
 export type OptimizeResponse = z.infer<typeof OptimizeResponseSchema>;
 export type Verdict = z.infer<typeof VerdictSchema>;

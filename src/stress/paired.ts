@@ -12,7 +12,8 @@ export interface StressRun {
 
 /**
  * A gate metric recomputed inside each contiguous batch of draws (the batches of the batch-means
- * errors). Undefined for metrics without a per-batch form here (mean-driven share).
+ * errors). Undefined for metrics without a per-batch form here (mean-driven share, and the exact
+ * forecast break-even, whose error is 0).
  */
 export function metricByBatch(run: StressRun, metric: PolicyRule['metric'], method: MethodName): Float64Array | undefined {
   const { plan, acc } = run;
@@ -55,10 +56,12 @@ export function metricByBatch(run: StressRun, metric: PolicyRule['metric'], meth
         return max;
       }
       case 'mean-driven-share':
+      case 'forecast-break-even-std-errs':
         return Number.NaN;
     }
   };
-  if (metric === 'mean-driven-share') return undefined;
+  // Break-even shifts are exact (no draws): the difference of two runs has no Monte Carlo error.
+  if (metric === 'mean-driven-share' || metric === 'forecast-break-even-std-errs') return undefined;
   const out = new Float64Array(m);
   for (let b = 0; b < m; b++) out[b] = statistic(batchStart(draws, m, b), batchStart(draws, m, b + 1));
   return out;

@@ -26,7 +26,30 @@ export function metricOf(report: ReportBody, metric: PolicyRule['metric'], metho
       return { value: m.meanDrivenShare.overall, stdErr: m.meanDrivenShare.stdErr };
     case 'max-weight-sd':
       return m.maxWeightSd;
+    case 'forecast-break-even-std-errs':
+      return smallestBreakEven(m);
   }
+}
+
+/**
+ * Break-even shifts beyond this many standard errors count as "never" for the policy metric: a
+ * forecast that must move by a thousand standard errors is not fragile in any practical sense,
+ * and a verdict value must stay a finite JSON number.
+ */
+export const BREAK_EVEN_CAP_STD_ERRS = 1000;
+
+/**
+ * The smallest break-even forecast shift of any asset, in standard errors of its forecast: a
+ * pattern change within that many standard errors is a position that hinges on the forecast.
+ * Exact (no draws), so its stdErr is 0. When no shift changes the pattern (or the method ignores
+ * the means) the value is the cap, which passes any sensible min.
+ */
+export function smallestBreakEven(m: ReportBody['methods'][number]): MetricEstimate {
+  let value = BREAK_EVEN_CAP_STD_ERRS;
+  for (const row of m.forecastSensitivity ?? []) {
+    for (const x of [row.shiftUpStdErrs, row.shiftDownStdErrs]) if (x !== null && x < value) value = x;
+  }
+  return { value, stdErr: 0 };
 }
 
 export class PolicyError extends Error {
