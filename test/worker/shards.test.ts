@@ -40,3 +40,4 @@ describe('sharded stress in the Workers runtime', () => {
     expect(Number(done)).toBeLessThan(2000);
   });
 });
+
