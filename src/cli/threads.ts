@@ -2,7 +2,7 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
-import type { RangeRequest } from '../scale/range-job.js';
+import { computeRange, type RangeRequest } from '../scale/range-job.js';
 import { RangeCancelledError } from '../scale/errors.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
 import type { DrawRunner } from '../stress/run.js';
@@ -72,14 +72,29 @@ export const threadExecutor =
   });
 
 /**
- * Splits the draws over `threads` worker threads, one contiguous range each, merged into the same
- * report as one loop (meta.threads records the split). With `automatic` (no --threads given), small
- * requests stay on this thread.
+ * Computes a range on this thread, after letting the other ranges' threads start (the draws run
+ * synchronously and would hold them back). It cannot be interrupted; a cancel is noticed when it ends.
+ */
+const computeHere: RangeExecutor = async (request, { signal, onProgress }) => {
+  await new Promise((resolve) => setTimeout(resolve, 0));
+  if (signal.aborted) throw new RangeCancelledError();
+  const bytes = await computeRange(request, { onProgress });
+  if (signal.aborted) throw new RangeCancelledError();
+  return bytes;
+};
+
+/**
+ * Splits the draws over `threads` threads (this one and threads − 1 worker threads), one contiguous
+ * range each, merged into the same report as one loop (meta.threads records the split). With
+ * `automatic` (no --threads given), small requests stay on this thread.
  */
 export function threadRunner(threads: number, automatic: boolean, entry?: URL): DrawRunner {
+  const onThread = threadExecutor(entry);
   return fanOutRunner({
     parts: automatic ? (plan) => (plan.workUnits < (entry ? AUTO_THREADS_MIN_WORK : automaticMinWork()) ? 'here' : threads) : threads,
-    execute: threadExecutor(entry),
+    // The first range runs on this thread (one thread start, module load and JIT warm-up fewer);
+    // its retry, if any, on a worker thread.
+    execute: (request, context) => (context.range.index === 0 && context.attempt === 1 ? computeHere(request, context) : onThread(request, context)),
     unit: 'thread',
   });
 }

@@ -26,14 +26,6 @@ describe('wobble --threads', () => {
     expect(comparable(b)).toBe(comparable(a));
   });
 
-  it('splits check the same way', () => {
-    const p = historyProposal(60, { resampling: { draws: 40, seed: 'gate' }, policy: { rules: [{ metric: 'turnover-from-proposal.p50', max: 0.9 }] } });
-    const one = wobble(['check', '-', '--threads', '1'], JSON.stringify(p));
-    const two = wobble(['check', '-', '--threads', '2'], JSON.stringify(p));
-    expect(two.code, two.stderr).toBe(one.code);
-    expect(comparable(JSON.parse(two.stdout))).toBe(comparable(JSON.parse(one.stdout)));
-  });
-
   it('refuses bad combinations as usage errors (exit 2)', () => {
     expect(() => scaleRunner({ threads: '0' })).toThrow(UsageError);
     expect(() => scaleRunner({ shards: '3' })).toThrow(/--shards needs --remote/);
