@@ -266,7 +266,7 @@ function coldGuess(problem: QpProblem, hessian: ReducedHessian, mode: 'projected
   for (let i = 0; i < n; i++) if (!Number.isFinite(out[i])) return void out.fill(budget / n);
 }
 
-function buildReducedHessian(
+export function buildReducedHessian(
   h: QpHessian,
   n: number,
   ws: QpWorkspace,

@@ -78,6 +78,7 @@ export const PatternChangeSchema = z
     name: z.string().describe('The asset id or the group name.'),
     from: patternSide.describe('State at the base optimum: at its lower bound (a group: at its min), strictly inside, or at its upper bound (a group: at its max).'),
     to: patternSide.describe('State just past the shift.'),
+    limit: z.number().describe('The bound or group limit involved (a weight fraction): the one it leaves (from) or reaches (to).'),
   })
   .describe('One change of the active pattern at a break-even shift.');
 
@@ -92,7 +93,7 @@ export const ForecastSensitivitySchema = z
       .number()
       .min(0)
       .nullable()
-      .describe("Smallest increase of the annual mean forecast at which the optimum's active pattern (each asset at its lower bound / inside / at its upper bound; each group at its min / inside / at its max) first changes; null when no increase, however large, changes it."),
+      .describe("Smallest increase of the annual mean forecast at which the optimum's active pattern (each asset at its lower bound / inside / at its upper bound; each group at its min / inside / at its max) first changes; null when no increase, however large, changes it (scenario Kelly: none within 1024 standard errors)."),
     shiftDown: z
       .number()
       .min(0)
@@ -115,7 +116,7 @@ export const ForecastSensitivitySchema = z
     dWeightsDMean: z
       .array(z.number())
       .optional()
-      .describe('∂w/∂μ_i per unit of annual mean on the base active pattern (mean-variance only), in the order of `assets`.'),
+      .describe('∂w/∂μ_i per unit of annual mean on the base active pattern (mean-variance and quadratic Kelly; given for up to 50 assets), in the order of `assets`.'),
   })
   .describe("How far one asset's return forecast must move before the optimiser changes its mind, and how that compares with how well the forecast is known.");
 

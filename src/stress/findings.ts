@@ -15,6 +15,10 @@ export const FINDING_THRESHOLDS = {
   meanDriven: 0.7,
   /** Held (≥ 1 bp) in fewer than this share of draws although the proposal holds it. */
   rarelySelected: 0.5,
+  /** A break-even forecast shift below this many standard errors: the position hinges on a change well within the forecast's own noise. */
+  breakEvenStdErrs: 1,
+  /** At most this many break-even findings (the smallest first). */
+  breakEvenFindings: 5,
 };
 
 /**
@@ -78,6 +82,7 @@ export function findingsFor(assets: readonly string[], proposalWeights: readonly
       });
     }
   }
+  if (own?.forecastSensitivity) out.push(...breakEvenFindings(own.method.name, own.forecastSensitivity));
   // Headline first, then the findings a reviewer acts on before the descriptive ones.
   if (own) {
     const fragile = out.filter((f) => f.code === 'weight-driven-by-mean-forecast').length;
@@ -87,6 +92,67 @@ export function findingsFor(assets: readonly string[], proposalWeights: readonly
       message: `${own.method.name}: ${fragile} of ${assets.length} weights depend mainly on their return forecasts; overall ${pct(own.meanDrivenShare.overall)} of the weight instability comes from noise in the means, and re-optimising on resampled inputs would trade a median ${pct(own.turnoverFromProposal.p50)} of the portfolio.`,
     });
   }
-  const order = ['summary', 'simpler-method-loses-less', 'weight-driven-by-mean-forecast', 'weight-unstable', 'position-rarely-selected', 'proposal-outside-band', 'turnover', 'proposal-volatility-band'];
+  const order = ['summary', 'simpler-method-loses-less', 'forecast-break-even', 'forecast-break-even-robust', 'weight-driven-by-mean-forecast', 'weight-unstable', 'position-rarely-selected', 'proposal-outside-band', 'turnover', 'proposal-volatility-band'];
   return out.map((f, i) => [f, i] as const).sort(([a, i], [b, j]) => order.indexOf(a.code) - order.indexOf(b.code) || i - j).map(([f]) => f);
+}
+
+type SensitivityRow = NonNullable<MethodReport['forecastSensitivity']>[number];
+type Change = SensitivityRow['changesUp'][number];
+
+/** Percent with two decimals below 1 % (break-even shifts are often small), one above. */
+const pctFine = (x: number): string => `${(100 * x).toFixed(Math.abs(x) < 0.01 ? 2 : 1)}%`;
+const stdErrs = (x: number): string => x.toFixed(x < 1 ? 2 : 1);
+
+/** What a pattern change does, in words; `self` is the asset whose forecast moves. */
+export function describePatternChange(c: Change, self: string): string {
+  const who = c.kind === 'asset' ? (c.name === self ? 'it' : c.name) : `the ${c.name} group`;
+  if (c.kind === 'group') {
+    if (c.to === 'upper') return `takes ${who} to its maximum of ${pct(c.limit)}`;
+    if (c.to === 'lower') return `takes ${who} down to its minimum of ${pct(c.limit)}`;
+    return c.from === 'upper' ? `takes ${who} below its maximum of ${pct(c.limit)}` : `lifts ${who} above its minimum of ${pct(c.limit)}`;
+  }
+  if (c.to === 'lower') return c.limit === 0 ? `takes ${who} out of the allocation` : `takes ${who} down to its lower bound of ${pct(c.limit)}`;
+  if (c.to === 'upper') return `takes ${who} up to its cap of ${pct(c.limit)}`;
+  if (c.from === 'lower') return c.limit === 0 ? `brings ${who} into the allocation` : `lifts ${who} off its lower bound of ${pct(c.limit)}`;
+  return `takes ${who} below its cap of ${pct(c.limit)}`;
+}
+
+/**
+ * Ranked break-even findings for the proposal's method: each asset whose smaller break-even is
+ * under FINDING_THRESHOLDS.breakEvenStdErrs standard errors (smallest first, at most
+ * FINDING_THRESHOLDS.breakEvenFindings), or one sentence saying how robust the pattern is.
+ */
+export function breakEvenFindings(method: string, rows: readonly SensitivityRow[]): Finding[] {
+  const candidates: { row: SensitivityRow; up: boolean; inStdErrs: number; shift: number; changes: readonly Change[]; turnover: number }[] = [];
+  for (const row of rows) {
+    const sides = [
+      { up: true, inStdErrs: row.shiftUpStdErrs, shift: row.shiftUp, changes: row.changesUp, turnover: row.turnoverPerStdErr.up },
+      { up: false, inStdErrs: row.shiftDownStdErrs, shift: row.shiftDown, changes: row.changesDown, turnover: row.turnoverPerStdErr.down },
+    ].filter((x): x is typeof x & { inStdErrs: number; shift: number } => x.inStdErrs !== null && x.shift !== null);
+    if (sides.length === 0) continue;
+    const best = sides.reduce((a, b) => (b.inStdErrs < a.inStdErrs ? b : a));
+    candidates.push({ row, ...best });
+  }
+  candidates.sort((a, b) => a.inStdErrs - b.inStdErrs || a.row.asset.localeCompare(b.row.asset));
+  if (candidates.length === 0) return [];
+  const fragile = candidates.filter((c) => c.inStdErrs < FINDING_THRESHOLDS.breakEvenStdErrs).slice(0, FINDING_THRESHOLDS.breakEvenFindings);
+  if (fragile.length === 0) {
+    const c = candidates[0];
+    return [
+      {
+        code: 'forecast-break-even-robust',
+        asset: c.row.asset,
+        method,
+        message: `${method}: no position changes unless a return forecast moves by at least ${stdErrs(c.inStdErrs)} standard errors (smallest: ${c.row.asset}, ${pctFine(c.shift)} a year ${c.up ? 'up' : 'down'}).`,
+      },
+    ];
+  }
+  return fragile.map((c) => ({
+    code: 'forecast-break-even',
+    asset: c.row.asset,
+    method,
+    message:
+      `${c.row.asset}: its forecast ${c.up ? 'rising' : 'falling'} by ${stdErrs(c.inStdErrs)} standard errors (${pctFine(c.shift)} a year) ` +
+      `${c.changes.map((x) => describePatternChange(x, c.row.asset)).join(' and ')}; a one-standard-error ${c.up ? 'rise' : 'fall'} would trade ${pct(c.turnover)} of the portfolio under ${method}.`,
+  }));
 }

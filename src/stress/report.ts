@@ -7,6 +7,7 @@ import { describeOptimum, clean, cleanArray } from './base-optimum.js';
 import { SHORTFALL_LEVEL, type StressAccumulators, type StressPlan } from './engine.js';
 import { expectedShortfall } from './scenarios.js';
 import { findingsFor } from './findings.js';
+import { forecastSensitivityTables } from './forecast-sensitivity.js';
 import { PERCENTILE_DEFINITION } from './quantiles.js';
 import type { ScalarSummary } from './scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
@@ -37,6 +38,8 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     warnings.push({ code: 'few-draws', message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.` });
   }
 
+  const sensitivity = forecastSensitivityTables(p, plan.base, plan.baseScenarios, plan.workUnits);
+  warnings.push(...sensitivity.warnings);
   const methods: MethodReport[] = plan.solvers.map((_, k) => {
     const a = acc.methods[k];
     const spec = p.methods[k];
@@ -86,6 +89,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       outsideBandShare: { value: finite(stability.value), stdErr: finite(stability.stdErr) },
       maxWeightSd: { value: finite(maxSd), stdErr: finite(maxSdErr) },
       failedDraws: summary.failedDraws,
+      ...(sensitivity.tables[k] ? { forecastSensitivity: sensitivity.tables[k] } : {}),
     };
   });
 
@@ -145,7 +149,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       channels: ['joint', 'mean-only', 'covariance-only'],
       percentiles: PERCENTILE_DEFINITION,
       monteCarloError: MONTE_CARLO_ERROR_DESCRIPTION,
-      workUnits: Math.round(plan.workUnits),
+      workUnits: Math.round(plan.workUnits + sensitivity.workUnits),
       baseEstimation: Object.fromEntries(Object.entries(p.estimationNotes).map(([k, v]) => [k, clean(v)])),
     },
     assets: [...p.assets],

@@ -5,6 +5,7 @@ import { CAUTIONS } from '../schema/cautions.js';
 import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
+import { forecastSensitivityTables } from './forecast-sensitivity.js';
 import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan } from './engine.js';
 import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
@@ -46,15 +47,20 @@ export const MAX_FAILED_SHARE = 0.5;
 export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0): Promise<OptimizeResponse> {
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  checkLimits(proposal, 1, scheme, methodList(proposal));
+  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal));
   const problem = prepareProblem(proposal, warnings);
   const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(problem, scenarioKelly);
+  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits);
   return {
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
-    methods: problem.methods.map((spec, k) => ({ method: spec, base: describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear) })),
-    warnings: [...problem.warnings, ...solved.warnings],
+    methods: problem.methods.map((spec, k) => {
+      const table = sensitivity.tables[k];
+      const base = describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear);
+      return table ? { method: spec, base, forecastSensitivity: table } : { method: spec, base };
+    }),
+    warnings: [...problem.warnings, ...solved.warnings, ...sensitivity.warnings],
     cautions: [...CAUTIONS],
   };
 }

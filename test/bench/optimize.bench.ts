@@ -13,9 +13,10 @@
  */
 import { createRequire } from 'node:module';
 import seedrandom from 'seedrandom';
-import type { DenseRiskModel } from '../../src/linalg/risk-model.js';
+import type { DenseRiskModel, RiskModel } from '../../src/linalg/risk-model.js';
 import { qpObjective } from '../../src/optimize/kkt.js';
-import { meanVariance } from '../../src/optimize/mean-variance.js';
+import { QpForecastSensitivity } from '../../src/optimize/forecast-sensitivity-qp.js';
+import { meanVariance, meanVarianceProblem } from '../../src/optimize/mean-variance.js';
 import { minimumVariance } from '../../src/optimize/minimum-variance.js';
 import { solveQp, QpWorkspace, type QpProblem } from '../../src/optimize/qp.js';
 import type { ConstraintSet } from '../../src/optimize/types.js';
@@ -193,4 +194,73 @@ for (const n of [10, 50, 200]) {
     }
   });
   console.log(`\nstress target: N = 30, 500 draws × (mean-variance + minimum-variance), warm-started: ${fmt(ms)} of solver time`);
+}
+
+// Break-even forecast table (src/optimize/forecast-sensitivity-qp.ts): every asset's shifts both
+// ways from one factorisation, and the exact turnover at ±1 standard error of the mean (σ_i/√T per
+// period; re-solves warm-started from the base where a breakpoint lies within it). Reference: one
+// cold solve of the same problem, and the 2N warm solves a finite-difference table would need.
+{
+  console.log('\nbreak-even forecast table (mean-variance, caps + group, risk aversion 5), against one solve of the same problem');
+  console.log('        N | one cold solve | table: shifts | + turnover ±1 se (re-solves) | shifts ÷ solve | all ÷ solve | 2N warm solves ÷ solve');
+  const cases: { n: number; factors: number }[] = [
+    { n: 10, factors: 0 },
+    { n: 50, factors: 0 },
+    { n: 200, factors: 0 },
+    { n: 200, factors: 5 },
+  ];
+  for (const { n, factors } of cases) {
+    const t = Math.max(60, 2 * n);
+    const r = history(n, t);
+    const base = moments(r, n, Int32Array.from({ length: t }, (_, s) => s));
+    const constraints = constraintsFor(n);
+    // Factor case: an invented K-factor model with the history's variances (loadings seeded).
+    const model: RiskModel =
+      factors === 0
+        ? { kind: 'dense', n, cov: base.cov }
+        : {
+            kind: 'factor',
+            n,
+            k: factors,
+            factorNames: Array.from({ length: factors }, (_, a) => `f${a}`),
+            loadings: Float64Array.from({ length: n * factors }, () => 0.03 * normal()),
+            factorCov: Float64Array.from({ length: factors * factors }, (_, a) => (Math.floor(a / factors) === a % factors ? 1 : 0)),
+            specificVar: Float64Array.from({ length: n }, (_, i) => 0.5 * base.cov[i * n + i]),
+          };
+    const problem = meanVarianceProblem(model, base.mean, constraints, 5);
+    const workspace = new QpWorkspace(n, 1);
+    let solution = meanVariance(model, base.mean, constraints, 5, { workspace }).solution;
+    const repeats = n === 200 ? 5 : 30;
+    const solve = time(repeats, () => {
+      solution = meanVariance(model, base.mean, constraints, 5, { workspace }).solution;
+    });
+    const shifts = time(repeats, () => {
+      const s = new QpForecastSensitivity(problem, solution);
+      for (let i = 0; i < n; i++) s.shiftsOf(i);
+    });
+    let resolves = 0;
+    const all = time(repeats, () => {
+      const s = new QpForecastSensitivity(problem, solution);
+      for (let i = 0; i < n; i++) {
+        const row = s.shiftsOf(i);
+        const se = Math.sqrt(base.cov[i * n + i] / t);
+        s.weightsAt(i, se, row);
+        s.weightsAt(i, -se, row);
+      }
+      resolves = s.resolves;
+    });
+    const fd = time(repeats, () => {
+      for (let i = 0; i < n; i++) {
+        for (const h of [1e-6, -1e-6]) {
+          const linear = Float64Array.from(base.mean);
+          linear[i] += h;
+          solveQp({ ...problem, linear }, { workspace, warmStart: solution.warmStart });
+        }
+      }
+    });
+    console.log(
+      `${`${n}${factors ? ` K=${factors}` : ''}`.padStart(9)} | ${fmt(solve).padStart(14)} | ${fmt(shifts).padStart(13)} | ${`${fmt(all)} (${resolves})`.padStart(28)} | ` +
+        `${(shifts / solve).toFixed(2).padStart(14)} | ${(all / solve).toFixed(2).padStart(11)} | ${(fd / solve).toFixed(2).padStart(22)}`,
+    );
+  }
 }
