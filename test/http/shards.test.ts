@@ -89,10 +89,16 @@ describe('POST /v1/stress?shards=N (Durable Object stand-ins in Node)', () => {
   });
 
   it('stops every shard when the client goes away', async () => {
-    const big = historyProposal(120, { resampling: { draws: 400, seed: 'cancel' } });
-    const { env, calls } = namespace();
+    const big = historyProposal(120, { resampling: { draws: 1500, seed: 'cancel' } });
     const client = new AbortController();
-    setTimeout(() => client.abort(), 300);
+    let started = 0;
+    // The client goes away just after the third shard has started (each has 500 draws to do).
+    const { env, calls } = namespace({
+      before: (call) => {
+        if (call.path === '/range' && ++started === 3) setTimeout(() => client.abort(), 20);
+        return undefined;
+      },
+    });
     const res = await post('/v1/stress?shards=3', big, env, client.signal);
     expect(res.status).toBe(409);
     // Each object hears the cancel at its next chunk of draws and answers 409 instead of a partial.
