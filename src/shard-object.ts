@@ -1,5 +1,7 @@
 import { rangeResponse } from './http/shards.js';
 import { problemResponse } from './http/problem.js';
+import { readConfig, type ServiceBindings } from './http/config.js';
+import type { WorkLimits } from './stress/engine.js';
 
 /**
  * A Durable Object that computes one range of a stress request's draws (README "Scaling out").
@@ -13,6 +15,12 @@ import { problemResponse } from './http/problem.js';
  */
 export class StressShard {
   private cancelled = false;
+  private readonly limits: WorkLimits;
+
+  constructor(_state: unknown, env: ServiceBindings | undefined) {
+    // The deployment's lowered work limit (WOBBLE_MAX_WORK) holds in every shard too.
+    this.limits = readConfig(env).limits;
+  }
 
   async fetch(request: Request): Promise<Response> {
     const { pathname } = new URL(request.url);
@@ -23,6 +31,7 @@ export class StressShard {
     if (request.method === 'POST' && pathname === '/range') {
       this.cancelled = false;
       return rangeResponse(request, {
+        limits: this.limits,
         pause: () => new Promise<void>((resolve) => setTimeout(resolve, 0)),
         cancelled: () => this.cancelled,
       });

@@ -1,86 +1,89 @@
-import { Hono } from 'hono';
-import demoProposal from '../../schemas/examples/demo-proposal.json';
-import { jsonSchema, SCHEMA_NAMES, type SchemaName } from '../schema/json-schema.js';
-import { CheckRequestSchema } from '../schema/check.js';
-import { problem, problemsFromZod, statusFor, type Problem } from '../schema/problems.js';
-import { renderReportHtml } from '../render/html.js';
-import { renderReportMarkdown } from '../render/markdown.js';
-import { renderPage } from '../render/page.js';
-import { resolveBaseline } from '../stress/baseline.js';
-import { classifyError } from '../stress/errors.js';
-import { checkProposal, optimizeProposal, stressProposal } from '../stress/run.js';
-import { validateProposal } from '../schema/validate.js';
-import { VERSION } from '../version.js';
-import { readJsonBody, type BodyResult } from './body.js';
-import { openApiDocument } from './openapi.js';
-import { problemResponse, summarise } from './problem.js';
-import { registerShardRoutes, shardProblem, shardRunOptions } from './shards.js';
+import { Hono, type MiddlewareHandler } from 'hono';
+import { authorise, challenge } from './auth.js';
+import { readConfig, type ServiceBindings } from './config.js';
+import { corsHeaders, isPreflight, preflightHeaders } from './cors.js';
+import { problemResponse } from './problem.js';
+import { clientKey, RETRY_AFTER_SECONDS, withinRateLimit } from './rate-limit.js';
+import { honoPath, pathMatcher, type AppContext, type AppEnv, type RouteDefinition } from './route.js';
+import { ROUTES } from './routes/index.js';
+import { applySecurityHeaders, CACHE } from './security-headers.js';
 
 /**
- * The HTTP edge: parse, validate, call the core, shape errors as problem+json.
- * Nothing a caller sends may produce a 500: every failure of the core that a request can
- * cause is typed and mapped to 4xx.
+ * The HTTP edge: configuration, CORS, token, rate limit and headers around the routes of
+ * src/http/routes. Nothing a caller sends may produce a 500: every failure of the core that a
+ * request can cause is typed and mapped to 4xx.
  */
-export function createApp(): Hono {
-  const app = new Hono();
+export function createApp(routes: readonly RouteDefinition[] = ROUTES): Hono<AppEnv> {
+  const app = new Hono<AppEnv>();
+  const table = routes.map((route) => ({ route, matcher: pathMatcher(route.path) }));
 
-  app.get('/', (c) => c.html(renderPage()));
-  app.get('/healthz', (c) => c.json({ status: 'ok', version: VERSION }));
-  app.get('/openapi.json', (c) => c.json(openApiDocument()));
-  app.get('/v1/examples/demo', (c) => c.json(demoProposal));
-  app.get('/v1/schemas/:name', (c) => {
-    const name = c.req.param('name').replace(/\.schema\.json$|\.json$/, '');
-    if (!(SCHEMA_NAMES as readonly string[]).includes(name)) {
-      return problemResponse(404, `no schema named "${name}"; expected one of ${SCHEMA_NAMES.join(', ')}`);
+  /** Methods a path answers, for Allow and preflights (HEAD with GET; OPTIONS always). */
+  const allowedMethods = (pathname: string): string[] => {
+    const methods = new Set<string>();
+    for (const { route, matcher } of table) {
+      if (!matcher.test(pathname)) continue;
+      methods.add(route.method.toUpperCase());
+      if (route.method === 'get') methods.add('HEAD');
     }
-    return c.json(jsonSchema(name as SchemaName));
+    if (methods.size > 0) methods.add('OPTIONS');
+    return [...methods];
+  };
+  const routeFor = (c: AppContext): RouteDefinition | undefined => {
+    const pathname = new URL(c.req.url).pathname;
+    const method = c.req.method === 'HEAD' ? 'get' : c.req.method.toLowerCase();
+    return table.find(({ route, matcher }) => route.method === method && matcher.test(pathname))?.route;
+  };
+
+  // Outermost: every response, errors and 404/405 included, leaves with the security and CORS headers.
+  app.use('*', async (c, next) => {
+    const config = readConfig(c.env);
+    c.set('config', config);
+    c.set('routes', routes);
+    await next();
+    const route = routeFor(c);
+    // A fresh Response: one passed through from a fetch (a Durable Object, say) has immutable headers.
+    c.res = new Response(c.res.body, c.res);
+    const headers = c.res.headers;
+    applySecurityHeaders(headers, { ownCsp: route?.ownCsp === true && c.res.status < 300 });
+    // Errors are never cached; a route's own policy applies to its successes (and 304s).
+    headers.set('cache-control', route && c.res.status < 400 ? CACHE[route.cache] : CACHE.noStore);
+    for (const [name, value] of Object.entries(corsHeaders(c.req.header('origin') ?? null, config.cors))) {
+      if (name === 'vary') headers.append('vary', value);
+      else headers.set(name, value);
+    }
   });
 
-  app.post('/v1/optimize', async (c) => {
-    const body = await readJsonBody(c.req.raw);
-    if (!body.ok) return bodyProblem(body);
-    const validation = validateProposal(body.value);
-    if (!validation.ok) return invalid(validation.problems);
-    return respond(async () => c.json(await optimizeProposal(validation.proposal, validation.warnings, clock)));
+  // OPTIONS: CORS preflights, and plain OPTIONS listing what a path allows.
+  app.use('*', async (c, next) => {
+    if (c.req.method !== 'OPTIONS') return next();
+    const allow = allowedMethods(new URL(c.req.url).pathname);
+    if (allow.length === 0) return problemResponse(404, `no route for ${new URL(c.req.url).pathname}`);
+    const extra = isPreflight(c.req.raw) ? preflightHeaders(c.req.header('origin') ?? null, c.get('config').cors, allow) : {};
+    return new Response(null, { status: 204, headers: { allow: allow.join(', '), ...extra } });
   });
 
-  registerShardRoutes(app);
-  app.post('/v1/stress', async (c) => {
-    const format = c.req.query('format') ?? 'json';
-    if (!['json', 'html', 'markdown'].includes(format)) return problemResponse(400, `unknown format "${format}"; expected json, html or markdown`);
-    const body = await readJsonBody(c.req.raw);
-    if (!body.ok) return bodyProblem(body);
-    const validation = validateProposal(body.value);
-    if (!validation.ok) return invalid(validation.problems);
-    return respond(async () => {
-      const report = await stressProposal(validation.proposal, validation.warnings, { clock, ...shardRunOptions(c.req.raw, c.env) });
-      if (format === 'html') return c.html(renderReportHtml(report));
-      if (format === 'markdown') return c.text(renderReportMarkdown(report), 200, { 'content-type': 'text/markdown; charset=utf-8' });
-      return c.json(report);
-    });
-  });
-
-  app.post('/v1/check', async (c) => {
-    const body = await readJsonBody(c.req.raw);
-    if (!body.ok) return bodyProblem(body);
-    const envelope = CheckRequestSchema.safeParse(body.value);
-    if (!envelope.success) return invalid(problemsFromZod(envelope.error.issues));
-    const validation = validateProposal(envelope.data.proposal);
-    if (!validation.ok) return invalid(validation.problems.map((p) => prefixProblem(p, 'proposal')));
-    const policy = envelope.data.policy ?? validation.proposal.policy;
-    if (!policy) return invalid([problem(['policy'], 'required field missing: a policy here or in proposal.policy')]);
-    return respond(async () => {
-      let baseline;
-      if (envelope.data.baseline !== undefined) {
-        const resolved = resolveBaseline(envelope.data.baseline);
-        if (!resolved.ok) return invalid(resolved.problems);
-        baseline = resolved.baseline;
+  for (const route of routes) {
+    const path = honoPath(route.path);
+    const handler: MiddlewareHandler<AppEnv> = async (c) => {
+      const config = c.get('config');
+      if (route.protected) {
+        const refused = await guard(c, config);
+        if (refused) return refused;
       }
-      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, { clock }));
-    });
-  });
+      return route.handle(c, config);
+    };
+    if (route.method === 'get') app.get(path, handler);
+    else app.post(path, handler);
+  }
 
-  app.notFound((c) => problemResponse(404, `no route for ${c.req.method} ${new URL(c.req.url).pathname}`));
+  app.notFound((c) => {
+    const pathname = new URL(c.req.url).pathname;
+    const allow = allowedMethods(pathname);
+    if (allow.length > 0) {
+      return problemResponse(405, `${c.req.method} is not allowed on ${pathname}; allowed: ${allow.join(', ')}`, { headers: { allow: allow.join(', ') } });
+    }
+    return problemResponse(404, `no route for ${c.req.method} ${pathname}`);
+  });
   app.onError((err) => {
     // A bug, not a caller's mistake; keep the message generic and log the detail.
     console.error(err);
@@ -89,31 +92,19 @@ export function createApp(): Hono {
   return app;
 }
 
-function bodyProblem(body: Extract<BodyResult, { ok: false }>): Response {
-  return problemResponse(body.status, body.detail, body.errors ? { errors: body.errors } : {});
-}
-
-/** Runs the core; typed failures become 413/422 problem+json, anything else propagates to onError (500, a bug). */
-async function respond(run: () => Promise<Response>): Promise<Response> {
-  try {
-    return await run();
-  } catch (e) {
-    const sharding = shardProblem(e);
-    if (sharding) return sharding;
-    const known = classifyError(e);
-    if (!known) throw e;
-    return problemResponse(known.status, known.detail, known.path ? { errors: [problem(known.path, known.detail, known.status === 413 ? 'limit' : 'unsolvable')] } : {});
+/** Configuration, token and rate limit for a protected route; a problem response when the request may not go on. */
+async function guard(c: AppContext, config: ReturnType<typeof readConfig>): Promise<Response | undefined> {
+  if (config.problems.length > 0) {
+    // Fail closed: a half-read configuration (say, an empty token secret) must not open the service.
+    console.error(`wobble configuration: ${config.problems.join('; ')}`);
+    return problemResponse(500, 'the service is misconfigured; its operator has been told (see the Worker logs)');
   }
+  const auth = await authorise(c.req.header('authorization') ?? null, config.tokens);
+  if (!auth.ok) return problemResponse(401, auth.detail, { headers: { 'www-authenticate': challenge(auth.error) } });
+  if (!(await withinRateLimit(config.rateLimiter, clientKey(c.req.raw, auth.key)))) {
+    return problemResponse(429, `too many requests from this client; wait ${RETRY_AFTER_SECONDS} s and retry`, { headers: { 'retry-after': String(RETRY_AFTER_SECONDS) } });
+  }
+  return undefined;
 }
 
-function prefixProblem(p: Problem, prefix: string): Problem {
-  return { ...p, path: p.path ? `${prefix}.${p.path}` : prefix, pointer: `/${prefix}${p.pointer}` };
-}
-
-/** Wall-clock milliseconds for meta.elapsedMs only (never used to bound work). */
-const clock = (): number => Date.now();
-
-export function invalid(problems: Parameters<typeof statusFor>[0]): Response {
-  const status = statusFor(problems);
-  return problemResponse(status, summarise(problems), { errors: problems });
-}
+export type { ServiceBindings };

@@ -1,6 +1,6 @@
-import type { Hono } from 'hono';
 import { RangeCancelledError, ShardFailedError } from '../scale/errors.js';
-import { automaticShards, MAX_SHARDS, shardedWorkShares } from '../scale/limits.js';
+import { z } from 'zod';
+import { AUTO_SHARD_WORK, automaticShards, MAX_SHARDS, shardedWorkShares } from '../scale/limits.js';
 import { readPartialResponse } from '../scale/partial-response.js';
 import { computeRange, RangeProposalError, RangeRequestSchema, type RangeComputeOptions } from '../scale/range-job.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
@@ -9,7 +9,8 @@ import { problem, problemsFromZod, statusFor } from '../schema/problems.js';
 import { classifyError } from '../stress/errors.js';
 import type { RunOptions } from '../stress/run.js';
 import { readJsonBody } from './body.js';
-import { problemResponse, summarise } from './problem.js';
+import { PROBLEM_TITLES, problemResponse, summarise, type ProblemStatus } from './problem.js';
+import type { RouteDefinition } from './route.js';
 
 /**
  * Scale-out over HTTP (README "Scaling out"):
@@ -66,17 +67,31 @@ export async function rangeResponse(request: Request, options: RangeComputeOptio
       const problems = e.problems.map((p) => ({ ...p, path: p.path ? `proposal.${p.path}` : 'proposal', pointer: `/proposal${p.pointer}` }));
       return problemResponse(statusFor(problems), summarise(problems), { errors: problems });
     }
-    if (e instanceof RangeCancelledError) return problemResponse(409, e.message, { title: 'Cancelled', type: 'https://wobble.invalid/problems/cancelled' });
+    if (e instanceof RangeCancelledError) return problemResponse(409, e.message);
     const known = classifyError(e);
     if (!known) throw e;
     return problemResponse(known.status, known.detail);
   }
 }
 
-/** Routes for computing ranges; registered with the app's other /v1 routes (so the same auth applies). */
-export function registerShardRoutes(app: Hono): void {
-  app.post('/v1/stress/range', (c) => rangeResponse(c.req.raw));
-}
+/**
+ * POST /v1/stress/range: one range of a request's draws, computed here; the answer is the binary
+ * partial result. Protected like the other /v1 POSTs (token, rate limit, body limits).
+ */
+export const stressRangeRoute: RouteDefinition = {
+  method: 'post',
+  path: '/v1/stress/range',
+  operationId: 'stressRange',
+  summary: 'Compute one range of a stress request’s draws and answer its partial result',
+  description:
+    'Body: `{proposal, draws, seed, start, end}` — the proposal, the whole request’s draws and seed, and the range [start, end) with 0 ≤ start < end ≤ draws. Answers the draws’ accumulated slots in the versioned binary form `application/vnd.wobble.partial`, for a caller that fans ranges out and merges them into the same report as one run (the CLI’s `--remote URL --shards N`; README "Scaling out"). Each range is held to one request’s work for its share of the draws.',
+  tag: 'report',
+  protected: true,
+  cache: 'noStore',
+  success: { description: 'The partial result of the range (binary; see README "Scaling out").', content: { [PARTIAL_MEDIA_TYPE]: { text: 'Binary partial result: magic "WBLP", version, JSON header, little-endian doubles.' } } },
+  problems: [400, 409, 413, 422],
+  handle: (c, config) => rangeResponse(c.req.raw, { limits: config.limits }),
+};
 
 /** Computes each range in a new Durable Object (a retry gets a new object); cancels it when the request stops. */
 export function durableObjectExecutor(namespace: ShardNamespace): RangeExecutor {
@@ -126,60 +141,22 @@ export function shardRunOptions(request: Request, env: unknown): Pick<RunOptions
 
 /** problem+json for the scale-out failures of a stress request, or undefined for anything else. */
 export function shardProblem(e: unknown): Response | undefined {
-  if (e instanceof ShardRequestError) {
-    return problemResponse(e.status, e.message, e.status === 400 ? { errors: [problem(['shards'], e.message)] } : {});
-  }
+  if (e instanceof ShardRequestError) return problemResponse(e.status, e.message, e.status === 400 ? { errors: [problem(['shards'], e.message)] } : {});
   if (e instanceof ShardFailedError) {
-    return problemResponse(e.status, e.message, {
-      title: 'A shard of the request failed',
-      type: 'https://wobble.invalid/problems/shard-failed',
-      shard: { index: e.shard.index, start: e.shard.start, end: e.shard.end, attempts: e.attempts },
-    });
+    const status: ProblemStatus = e.status in PROBLEM_TITLES ? (e.status as ProblemStatus) : 502;
+    return problemResponse(status, e.message);
   }
-  if (e instanceof RangeCancelledError) return problemResponse(409, e.message, { title: 'Cancelled', type: 'https://wobble.invalid/problems/cancelled' });
+  if (e instanceof RangeCancelledError) return problemResponse(409, e.message);
   return undefined;
 }
 
-/** OpenAPI fragments for the scale-out routes (merged into openapi.ts). */
-export const SHARDS_QUERY_PARAMETER = {
-  name: 'shards',
-  in: 'query',
-  required: false,
-  description: `Compute the draws in N Durable Objects (1..${MAX_SHARDS}) and merge them: the same report, with meta.shards = N. Without it the service shards by itself above an estimated 5e9 operations when the binding is configured. 501 without the STRESS_SHARD binding.`,
-  schema: { type: 'integer', minimum: 1, maximum: MAX_SHARDS },
-} as const;
-
-export function shardOpenApiPaths(problem: Record<string, unknown>): Record<string, unknown> {
-  return {
-    '/v1/stress/range': {
-      post: {
-        summary: 'Compute one range [start, end) of a stress request’s draws and answer its partial result (for fan-out and merge; README "Scaling out")',
-        requestBody: {
-          required: true,
-          content: {
-            'application/json': {
-              schema: {
-                type: 'object',
-                required: ['proposal', 'draws', 'seed', 'start', 'end'],
-                additionalProperties: false,
-                properties: {
-                  proposal: { $ref: '#/components/schemas/Proposal' },
-                  draws: { type: 'integer', minimum: 1, description: 'Draws of the whole request.' },
-                  seed: { type: ['string', 'integer'], description: 'Seed of the whole request.' },
-                  start: { type: 'integer', minimum: 0 },
-                  end: { type: 'integer', minimum: 1, description: 'One past the last draw; start < end ≤ draws.' },
-                },
-              },
-            },
-          },
-        },
-        responses: {
-          '200': { description: 'the binary partial result', content: { [PARTIAL_MEDIA_TYPE]: { schema: { type: 'string', format: 'binary' } } } },
-          '400': problem,
-          '413': problem,
-          '422': problem,
-        },
-      },
-    },
-  };
-}
+/** The `?shards` query of POST /v1/stress, for its OpenAPI description. */
+export const SHARDS_QUERY = z.object({
+  shards: z
+    .string()
+    .regex(/^\d+$/)
+    .optional()
+    .describe(
+      `Compute the draws in N Durable Objects (1..${MAX_SHARDS}) and merge them: the same report, with meta.shards = N. Without it the service shards by itself above an estimated ${AUTO_SHARD_WORK.toExponential(0)} units of work when the STRESS_SHARD binding is configured; 501 when asked for without it.`,
+    ),
+});

@@ -3,7 +3,7 @@ import { LIMITS } from '../schema/limits.js';
 import { validateProposal } from '../schema/validate.js';
 import type { Problem } from '../schema/problems.js';
 import { inputDigest } from '../stress/digest.js';
-import { createAccumulators, planStress, runDraws } from '../stress/engine.js';
+import { createAccumulators, planStress, runDraws, type WorkLimits } from '../stress/engine.js';
 import { RangeCancelledError } from './errors.js';
 import { encodePartial } from './wire.js';
 
@@ -41,6 +41,8 @@ export function rangeWorkShares(request: { draws: number; start: number; end: nu
 }
 
 export interface RangeComputeOptions {
+  /** Limits the deployment lowers (WOBBLE_MAX_WORK); each range is held to them for its share. */
+  readonly limits?: WorkLimits;
   /** Lets other events run between chunks of draws (a Durable Object hears a cancel message there). */
   readonly pause?: () => Promise<void>;
   /** Checked between chunks; true stops the range with RangeCancelledError. */
@@ -67,7 +69,11 @@ function chunkDraws(workPerDraw: number): number {
 export async function computeRange(request: RangeRequest, options: RangeComputeOptions = {}): Promise<Uint8Array> {
   const validation = validateProposal(request.proposal);
   if (!validation.ok) throw new RangeProposalError(validation.problems);
-  const plan = planStress(validation.proposal, validation.warnings, { draws: request.draws, seed: request.seed, workShares: rangeWorkShares(request) });
+  const plan = planStress(validation.proposal, validation.warnings, {
+    draws: request.draws,
+    seed: request.seed,
+    limits: { ...options.limits, workShares: rangeWorkShares(request) },
+  });
   const acc = createAccumulators(plan);
   const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;
   for (let from = request.start; from < request.end; from += chunk) {

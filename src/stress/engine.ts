@@ -69,6 +69,8 @@ export interface StressPlan {
   /** Base scenario rows (history moved to the base mean), for scenario Kelly. */
   readonly baseScenarios?: Float64Array;
   readonly workUnits: number;
+  /** The work limit in force for this request (the built-in one, or lower on a deployment). */
+  readonly maxWorkUnits: number;
   readonly warnings: Warning[];
 }
 
@@ -114,23 +116,41 @@ function workShape(proposal: Proposal, scheme: Scheme, methods: readonly MethodS
 }
 
 /**
+ * Limits a deployment may lower below LIMITS (never raise): a service on a plan with a small CPU
+ * allowance sets a smaller work budget so it refuses with 413 instead of being killed mid-request.
+ */
+export interface WorkLimits {
+  readonly maxWorkUnits?: number;
+  /**
+   * CPU allowances the draws are split over (shards, src/scale), each held to the work budget, so
+   * the whole request may do this many times the work (default 1). Never lowers the budget.
+   */
+  readonly workShares?: number;
+}
+
+/** The work budget in force: the smaller of the built-in limit and the deployment's. */
+export function effectiveMaxWorkUnits(limits: WorkLimits = {}): number {
+  const lowered = limits.maxWorkUnits;
+  return lowered !== undefined && Number.isFinite(lowered) && lowered > 0 ? Math.min(lowered, LIMITS.maxWorkUnits) : LIMITS.maxWorkUnits;
+}
+
+/**
  * Checks the request against the count limits before any estimation or solve, so an oversized
  * request is refused at once (413) instead of running out of CPU or memory mid-way. Returns the
  * estimated work. (Optimize checks one draw: it counts the base solves, in every channel, which
  * over-counts a little.)
  */
-export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], workShares = 1): number {
-  // A request split over several CPU allowances (src/scale) may do the single-request work in each.
-  const workLimit = LIMITS.maxWorkUnits * workShares;
+export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], limits: WorkLimits = {}): number {
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
   const shape = workShape(proposal, scheme, methods);
   const workUnits = estimateWork(methods, draws, shape);
-  if (workUnits > workLimit) {
+  const maxWorkUnits = effectiveMaxWorkUnits(limits) * Math.max(1, limits.workShares ?? 1);
+  if (workUnits > maxWorkUnits) {
     throw new LimitError(
       'maxWorkUnits',
-      workLimit,
-      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${workLimit.toExponential(1)} (maxWorkUnits); use fewer draws (at most about ${Math.max(1, Math.floor((draws * workLimit) / workUnits))}), fewer methods in compare, or a factor model`,
+      maxWorkUnits,
+      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${maxWorkUnits.toExponential(1)} (maxWorkUnits${maxWorkUnits < LIMITS.maxWorkUnits ? ', lowered on this deployment' : ''}); use fewer draws (at most about ${Math.max(1, Math.floor((draws * maxWorkUnits) / workUnits))}), fewer methods in compare, or a factor model`,
     );
   }
   const stored = (methods.length + 1) * draws * shape.n;
@@ -144,16 +164,12 @@ export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, m
   return workUnits;
 }
 
-/**
- * `workShares`: the request's draws are split over this many CPU allowances (shards, src/scale),
- * each held to the single-request work limit, so the whole may do that many times the work.
- */
-export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; workShares?: number } = {}): StressPlan {
+export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; limits?: WorkLimits } = {}): StressPlan {
   const draws = overrides.draws ?? proposal.resampling?.draws ?? 500;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.workShares);
+  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.limits);
 
   const problem = prepareProblem(proposal, warnings);
   const history = problem.history;
@@ -189,6 +205,7 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
     parametric,
     baseScenarios,
     workUnits,
+    maxWorkUnits: effectiveMaxWorkUnits(overrides.limits),
     warnings: planWarnings,
   };
 }

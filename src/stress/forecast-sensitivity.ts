@@ -72,6 +72,7 @@ export function forecastSensitivityTables(
   base: readonly MethodResult[],
   baseScenarios: Float64Array | undefined,
   workUnitsSoFar: number,
+  maxWorkUnits: number = LIMITS.maxWorkUnits,
 ): ForecastSensitivityTables {
   const warnings: Warning[] = [];
   const stdErr = forecastStdErrs(problem);
@@ -81,7 +82,7 @@ export function forecastSensitivityTables(
   const tables = problem.methods.map((spec, k) => {
     if (!usesMean(spec)) return undefined;
     const ops = forecastSensitivityOps([spec], { ...shape, scenarioKelly: spec.name === 'kelly' && scenarioCount > 0 });
-    if (workUnitsSoFar + used + ops > LIMITS.maxWorkUnits) {
+    if (workUnitsSoFar + used + ops > maxWorkUnits) {
       warnings.push({
         code: 'forecast-sensitivity-skipped',
         message: `Break-even forecast shifts for ${spec.name} were not computed: they need about ${ops.toExponential(2)} more operations than the work limit allows (maxWorkUnits).`,

@@ -38,7 +38,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     warnings.push({ code: 'few-draws', message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.` });
   }
 
-  const sensitivity = forecastSensitivityTables(p, plan.base, plan.baseScenarios, plan.workUnits);
+  const sensitivity = forecastSensitivityTables(p, plan.base, plan.baseScenarios, plan.workUnits, plan.maxWorkUnits);
   warnings.push(...sensitivity.warnings);
   const methods: MethodReport[] = plan.solvers.map((_, k) => {
     const a = acc.methods[k];

@@ -6,7 +6,7 @@ import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
-import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan } from './engine.js';
+import { checkLimits, createAccumulators, effectiveMaxWorkUnits, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan, type WorkLimits } from './engine.js';
 import { methodList, prepareProblem } from './problem.js';
 import { buildReport } from './report.js';
 import { pairedStdErr, type StressRun } from './paired.js';
@@ -25,6 +25,8 @@ export interface RunOptions {
   readonly onProgress?: (done: number, total: number) => void;
   /** Milliseconds since some origin; only used for meta.elapsedMs. */
   readonly clock?: () => number;
+  /** Limits the deployment lowers (WOBBLE_MAX_WORK on the service); the built-in limits otherwise. */
+  readonly limits?: WorkLimits;
   /** Computes the draws elsewhere (worker threads, shards; src/scale) instead of in this loop. */
   readonly drawRunner?: DrawRunner;
 }
@@ -36,7 +38,7 @@ export interface RunOptions {
 export interface DrawRunner {
   /** How the draws were split, recorded in the report's meta (meta.threads or meta.shards). */
   readonly record: { readonly threads?: number; readonly shards?: number };
-  /** CPU allowances the work is spread over (shards): the work limit is the single-request limit times this; default 1. */
+  /** CPU allowances the work is spread over (shards): the work budget is multiplied by this; default 1. */
   readonly workShares?: number;
   run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void): Promise<StressAccumulators>;
 }
@@ -44,14 +46,14 @@ export interface DrawRunner {
 /** Share of draws the proposal's own method may fail in before the report is refused. */
 export const MAX_FAILED_SHARE = 0.5;
 
-export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0): Promise<OptimizeResponse> {
+export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0, limits: WorkLimits = {}): Promise<OptimizeResponse> {
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal));
+  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal), limits);
   const problem = prepareProblem(proposal, warnings);
   const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(problem, scenarioKelly);
-  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits);
+  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWorkUnits(limits));
   return {
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
@@ -88,7 +90,8 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
   const clock = options.clock ?? (() => 0);
   const started = clock();
   const runner = options.drawRunner;
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, workShares: runner?.workShares });
+  const limits = runner?.workShares ? { ...options.limits, workShares: runner.workShares } : options.limits;
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, limits });
   const acc = runner ? await runner.run(plan, proposal, options.onProgress) : computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
@@ -123,6 +126,7 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     draws: candidate.run.plan.draws,
     seed: candidate.run.plan.seed,
     clock: options.clock,
+    limits: options.limits,
     drawRunner: options.drawRunner,
   });
   const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);

@@ -234,7 +234,7 @@ async function workerd(p: ProposalInput, draws: number): Promise<Pieces> {
 
   // Pieces for the model, measured in Node on the same case.
   const t0 = performance.now();
-  const plan = planStress(v.proposal, v.warnings, { workShares: Number.POSITIVE_INFINITY });
+  const plan = planStress(v.proposal, v.warnings, { limits: { workShares: Number.POSITIVE_INFINITY } });
   const planSeconds = (performance.now() - t0) / 1000;
   const sample = Math.min(20, draws);
   const acc = createAccumulators(plan);
