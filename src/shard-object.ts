@@ -19,7 +19,7 @@ export class StressShard {
 
   constructor(_state: unknown, env: ServiceBindings | undefined) {
     // The deployment's lowered work limit (WOBBLE_MAX_WORK) holds in every shard too.
-    this.limits = readConfig(env).limits;
+    this.limits = { maxWork: readConfig(env).maxWork };
   }
 
   async fetch(request: Request): Promise<Response> {

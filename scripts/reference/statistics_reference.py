@@ -6,12 +6,14 @@ Writes test/reference/fixtures/statistics.json with:
                   percentile) on deterministic samples, including ties, constants, n = 1 and 2
   midRanks        scipy.stats.percentileofscore(kind='mean') — the mid-rank percentile
   moments         mean and sample sd (numpy, ddof=1) and sd/sqrt(n)
-  batchMeans      Monte Carlo errors computed the documented way (batches by draw index,
-                  m = min(30, floor(B/10)), SE = sd(batch statistic, ddof=1)/sqrt(m); the
-                  order-statistic interval when m < 10), with failed draws (NaN) excluded
+  batchMeans      Monte Carlo errors computed the documented way (src/stress/batch-means.ts):
+                  percentiles by the order-statistic interval s*(Q(q+z s) - Q(q-z s))/(hi-lo),
+                  s = sqrt(q(1-q)/n), with numpy.quantile; band widths with the asymptotic
+                  quantile correlation; sds by the delta method; failed draws (NaN) excluded
   weights         a whole WeightAccumulator summary recomputed with numpy
   channels        mean-driven shares from numpy.var(ddof=1), including a badly conditioned case
-                  (weights 0.3 + 1e-7 noise) where a naive one-pass variance loses digits
+                  (weights 0.3 + 1e-7 noise) where a naive one-pass variance loses digits, and
+                  the delete-one-group jackknife error over m = min(30, floor(B/10)) groups
 
 Run with numpy and scipy installed (wheels on disk, see the project preamble):
   python3 scripts/reference/statistics_reference.py
@@ -50,17 +52,23 @@ def order_stat_se(x, q):
     n = len(x)
     if n < 2:
         return float('nan')
-    half = Z * math.sqrt(n * q * (1 - q))
-    lo = max(1, math.floor(n * q - half))
-    hi = min(n, math.ceil(n * q + half))
-    return float((x[hi - 1] - x[lo - 1]) / (2 * Z))
+    s = math.sqrt(q * (1 - q) / n)
+    # Widened over ties (1.96, 3, 4, 5, 7 sds of rank); 0 only when all are tied.
+    for k in (Z, 3, 4, 5, 7):
+        lo = max(0.0, q - k * s)
+        hi = min(1.0, q + k * s)
+        width = float(np.quantile(x, hi, method='linear') - np.quantile(x, lo, method='linear'))
+        if width > 0:
+            return s * width / (hi - lo)
+    return 0.0
 
 
-def batch_se(stats):
-    stats = np.asarray([s for s in stats if np.isfinite(s)])
-    if len(stats) < 2:
+def jackknife_se(loo):
+    loo = np.asarray([s for s in loo if np.isfinite(s)])
+    k = len(loo)
+    if k < 2:
         return float('nan')
-    return float(np.std(stats, ddof=1) / math.sqrt(len(stats)))
+    return float(math.sqrt((k - 1) / k * np.sum((loo - loo.mean()) ** 2)))
 
 
 def finite(x):
@@ -68,40 +76,24 @@ def finite(x):
 
 
 def quantile_se(x, q):
-    B = len(x)
-    m = batch_count(B)
-    if m < 10:
-        return order_stat_se(x, q)
-    stats = []
-    for a, b in batch_bounds(B, m):
-        s = finite(x[a:b])
-        stats.append(np.quantile(s, q, method='linear') if len(s) else float('nan'))
-    return batch_se(stats)
+    return order_stat_se(x, q)
 
 
 def width_se(x, lo, hi):
-    B = len(x)
-    m = batch_count(B)
-    if m < 10:
-        return math.hypot(order_stat_se(x, lo), order_stat_se(x, hi))
-    stats = []
-    for a, b in batch_bounds(B, m):
-        s = finite(x[a:b])
-        stats.append(np.quantile(s, hi, method='linear') - np.quantile(s, lo, method='linear') if len(s) else float('nan'))
-    return batch_se(stats)
+    a = order_stat_se(x, lo)
+    b = order_stat_se(x, hi)
+    rho = lo * (1 - hi) / math.sqrt(lo * (1 - lo) * hi * (1 - hi))
+    return math.sqrt(max(0.0, a * a + b * b - 2 * rho * a * b))
 
 
 def sd_se(x):
-    B = len(x)
-    m = batch_count(B)
     s = finite(x)
-    if m < 10:
-        return float(np.std(s, ddof=1) / math.sqrt(2 * (len(s) - 1)))
-    stats = []
-    for a, b in batch_bounds(B, m):
-        f = finite(x[a:b])
-        stats.append(np.std(f, ddof=1) if len(f) > 1 else float('nan'))
-    return batch_se(stats)
+    n = len(s)
+    sd = np.std(s, ddof=1)
+    if sd == 0:
+        return 0.0
+    m4 = np.mean((s - s.mean()) ** 4)
+    return float(math.sqrt(max(0.0, m4 - sd ** 4) / (4 * sd ** 2 * n)))
 
 
 def moments(x):
@@ -189,6 +181,8 @@ for i in range(N):
         'bands': [float(np.quantile(s, p, method='linear')) for p in (0.05, 0.25, 0.5, 0.75, 0.95)],
         'p05StdErr': quantile_se(col, 0.05),
         'p95StdErr': quantile_se(col, 0.95),
+        'p50StdErr': quantile_se(col, 0.5),
+        'selectionRateStdErr': float(math.sqrt(np.mean(np.abs(s) > threshold) * (1 - np.mean(np.abs(s) > threshold)) / (len(s) - 1))),
         'selectionRate': float(np.mean(np.abs(s) > threshold)),
         'proposalPercentile': float(percentileofscore(s, proposal[i], kind='mean')),
         'proposalPercentileStdErr': float(np.std(100 * ((s < proposal[i]) + 0.5 * (s == proposal[i])), ddof=1) / math.sqrt(len(s))),
@@ -206,13 +200,15 @@ def channel_case(mean_rows, cov_rows):
     tot = vm + vc
     per = np.where(tot > 0, vm / np.where(tot > 0, tot, 1), 0.0)
     overall = float(vm.sum() / tot.sum()) if tot.sum() > 0 else 0.0
-    m = batch_count(B)
-    shares = []
+    m = max(1, batch_count(B))
+    loo = []
     for a, b in batch_bounds(B, m):
-        bm = np.var(mean_rows[a:b], axis=0, ddof=1).sum()
-        bc = np.var(cov_rows[a:b], axis=0, ddof=1).sum()
-        shares.append(bm / (bm + bc) if bm + bc > 0 else 0.0)
-    se = batch_se(shares) if m >= 2 else 0.5
+        keep = np.ones(B, dtype=bool)
+        keep[a:b] = False
+        bm = np.var(mean_rows[keep], axis=0, ddof=1).sum()
+        bc = np.var(cov_rows[keep], axis=0, ddof=1).sum()
+        loo.append(bm / (bm + bc) if bm + bc > 0 else 0.0)
+    se = jackknife_se(loo) if m >= 2 else 0.5
     return {
         'meanRows': mean_rows.tolist(), 'covarianceRows': cov_rows.tolist(),
         'meanVariance': vm.tolist(), 'covarianceVariance': vc.tolist(),

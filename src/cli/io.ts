@@ -11,7 +11,7 @@ export function writeOutput(text: string, outFile: string | undefined): void {
 }
 
 /** Exit codes of the contract. */
-export const EXIT = { ok: 0, gateFailed: 1, usage: 2 } as const;
+export const EXIT = { ok: 0, gateFailed: 1, usage: 2, internal: 3 } as const;
 
 export class UsageError extends Error {
   constructor(message: string) {

@@ -5,18 +5,6 @@ import { EXIT, UsageError } from './io.js';
 import { remoteRunner } from './remote.js';
 import { defaultThreads, threadRunner } from './threads.js';
 
-/** parseArgs options of the scale-out flags (stress, check). */
-export const SCALE_OPTIONS = {
-  threads: { type: 'string' },
-  remote: { type: 'string' },
-  shards: { type: 'string' },
-} as const;
-
-export const SCALE_HELP = `--threads N splits the draws over N worker threads (default: the available cores, at most 8,
-for runs estimated at over a second of work, ten seconds from TypeScript sources; 1 disables). --remote URL --shards N sends N ranges of
-draws to a deployed wobble service (token from WOBBLE_API_TOKEN) and merges them here. The report
-is the same either way; meta.threads / meta.shards record the split.`;
-
 function positiveInt(value: string, flag: string, max: number): number {
   const n = Number(value);
   if (!Number.isInteger(n) || n < 1 || n > max) throw new UsageError(`${flag} must be an integer in 1..${max}, got "${value}"`);

@@ -1,4 +1,3 @@
-import type { WorkLimits } from '../stress/engine.js';
 import type { ShardNamespace } from './shards.js';
 
 /**
@@ -31,7 +30,8 @@ export interface ServiceConfig {
   /** Accepted bearer tokens; empty means no token is required. */
   readonly tokens: readonly string[];
   readonly cors: CorsOrigins;
-  readonly limits: WorkLimits;
+  /** A lower work maximum than the built-in one (WOBBLE_MAX_WORK); absent: the built-in limit. */
+  readonly maxWork?: number;
   readonly rateLimiter?: RateLimitBinding;
   /** Settings that could not be read. The protected routes refuse to run while any is present (fail closed). */
   readonly problems: readonly string[];
@@ -72,15 +72,15 @@ export function readConfig(env: ServiceBindings | undefined): ServiceConfig {
     cors = { any: false, origins: new Set(rawOrigins.map(normaliseOrigin)) };
   }
 
-  const limits: { maxWorkUnits?: number } = {};
+  let maxWork: number | undefined;
   const rawWork = typeof env?.WOBBLE_MAX_WORK === 'string' ? env.WOBBLE_MAX_WORK.trim() : '';
   if (rawWork !== '') {
     const value = Number(rawWork);
-    if (Number.isFinite(value) && value > 0) limits.maxWorkUnits = value;
+    if (Number.isFinite(value) && value > 0) maxWork = value;
     else problems.push(`WOBBLE_MAX_WORK: expected a positive number of work units (e.g. 2e8), got "${rawWork}"`);
   }
 
   const limiter = env?.WOBBLE_RATE_LIMITER;
   const rateLimiter = limiter && typeof limiter.limit === 'function' ? limiter : undefined;
-  return { tokens, cors, limits, rateLimiter, problems };
+  return { tokens, cors, ...(maxWork === undefined ? {} : { maxWork }), rateLimiter, problems };
 }

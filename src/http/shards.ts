@@ -90,7 +90,7 @@ export const stressRangeRoute: RouteDefinition = {
   cache: 'noStore',
   success: { description: 'The partial result of the range (binary; see README "Scaling out").', content: { [PARTIAL_MEDIA_TYPE]: { text: 'Binary partial result: magic "WBLP", version, JSON header, little-endian doubles.' } } },
   problems: [400, 409, 413, 422],
-  handle: (c, config) => rangeResponse(c.req.raw, { limits: config.limits }),
+  handle: (c, config) => rangeResponse(c.req.raw, { limits: { maxWork: config.maxWork } }),
 };
 
 /** Computes each range in a new Durable Object (a retry gets a new object); cancels it when the request stops. */

@@ -2,6 +2,7 @@ import type { RiskModel } from '../linalg/risk-model.js';
 import { assetVariances } from '../linalg/risk-ops.js';
 import { closedFormRuleResult, prepareClosedFormRule, type ClosedFormRuleOptions } from './closed-form-rule.js';
 import type { MethodResult } from './types.js';
+import { firstNearZeroVariance, nearZeroVarianceMessage } from './degenerate.js';
 import { OptimizationError } from './types.js';
 
 /**
@@ -39,5 +40,7 @@ export function inverseVolatility(model: RiskModel, options: InverseVolatilityOp
   const { budget, out } = prepareClosedFormRule(n, options);
   // Variances go into the output buffer first, then are overwritten by the weights in place.
   assetVariances(model, out);
+  const degenerate = firstNearZeroVariance(out, n);
+  if (degenerate >= 0) throw new OptimizationError('singular', nearZeroVarianceMessage('inverse volatility', degenerate, out[degenerate], options.assetNames));
   return closedFormRuleResult('inverse-volatility', fillInverseVolatilityWeights(out, out, budget), budget, options);
 }

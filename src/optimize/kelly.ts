@@ -1,4 +1,5 @@
 import type { RiskModel } from '../linalg/risk-model.js';
+import { findArbitrage } from './arbitrage.js';
 import { kktResidual } from './kkt.js';
 import { KellyWorkspace, NewtonState, WEALTH_MARGIN } from './kelly-state.js';
 import { meanVariance } from './mean-variance.js';
@@ -44,6 +45,8 @@ export interface KellyOptions extends QpMethodOptions {
   readonly maxNewtonIterations?: number;
   /** Reusable Kelly buffers (one per method per loop in the stress engine); a fresh one per solve when absent. */
   readonly kellyWorkspace?: KellyWorkspace;
+  /** Asset names, for the message when the scenarios admit an arbitrage. */
+  readonly assetNames?: readonly string[];
 }
 
 export interface KellyResult extends MethodResult {
@@ -163,6 +166,12 @@ export function kelly(
       }
     }
   }
+  // An unconverged or extremely leveraged result is checked for an arbitrage among the scenarios:
+  // then there is no optimum at all, and the last iterate must not be passed off as one.
+  if (!converged || leverageOf(w, constraints.budget) > SUSPICIOUS_LEVERAGE) {
+    const arbitrage = findArbitrage(scenarios, scenarioCount, constraints);
+    if (arbitrage) throw new OptimizationError('unbounded', describeArbitrage(arbitrage.direction, options.assetNames), 'Kelly has no optimum: the scenarios admit an arbitrage');
+  }
   const warnings: { code: string; message: string }[] = [];
   if (!converged) {
     warnings.push({
@@ -179,6 +188,32 @@ export function kelly(
     growthRate: state.growthRate(),
     newtonIterations: iterations,
   };
+}
+
+/**
+ * max|w_i| / max(1, |budget|) above which a "converged" Kelly result is checked for an arbitrage:
+ * with log utility along an arbitrage the gradient decays like 1/t, so an absolute KKT test can
+ * pass at huge weights. 1000× the budget is far beyond any leverage a real mandate allows.
+ */
+const SUSPICIOUS_LEVERAGE = 1000;
+
+function leverageOf(w: Float64Array, budget: number): number {
+  let m = 0;
+  for (let i = 0; i < w.length; i++) m = Math.max(m, Math.abs(w[i]));
+  return Number.isFinite(m) ? m / Math.max(1, Math.abs(budget)) : Infinity;
+}
+
+/** The plain-words reason for an unbounded Kelly problem, naming the assets of the arbitrage. */
+function describeArbitrage(direction: Float64Array, assetNames: readonly string[] | undefined): string {
+  const parts: string[] = [];
+  for (let i = 0; i < direction.length; i++) {
+    if (Math.abs(direction[i]) > 1e-9) parts.push(`${direction[i] > 0 ? 'long' : 'short'} ${assetNames?.[i] ?? `asset ${i}`}`);
+  }
+  return (
+    `Kelly has no optimum: the scenarios admit an arbitrage (${parts.slice(0, 6).join(', ')}${parts.length > 6 ? ', …' : ''} never loses in any ` +
+    'scenario and gains in some), so expected log growth increases without bound as that position is scaled up. ' +
+    'Add bounds or long-only constraints, or use more return history.'
+  );
 }
 
 /**

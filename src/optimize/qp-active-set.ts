@@ -118,6 +118,17 @@ export class ActiveSetEngine {
   private level: RegularisationLevel = 0;
   private xScale = 1;
   private bland = false;
+  /** The row added by the last blocking step (−1 when the last change was anything else). */
+  private lastAddedRow = -1;
+  /**
+   * Rows found dependent on the working set (restricted to the free variables) when they
+   * "blocked": along any step on the current face they stay put up to rounding, so they may not
+   * block again until the working set changes. Without this, a dependent row blocking at α = 0
+   * is added, dropped by the rank repair, and added again forever (seen with many overlapping
+   * group rows on few assets).
+   */
+  private ignoredRows = new Uint8Array(0);
+  private ignoredList: number[] = [];
 
   constructor(nMax = 0, mMax = 0) {
     this.ensureCapacity(nMax, mMax);
@@ -139,6 +150,8 @@ export class ActiveSetEngine {
     if (rowsChanged) {
       this.mMax = m;
       this.activeRows = new Int32Array(m);
+      this.ignoredRows = new Uint8Array(m);
+      this.ignoredList = [];
       this.s = new Float64Array(m * m);
       this.nu = new Float64Array(m);
     }
@@ -172,6 +185,8 @@ export class ActiveSetEngine {
     this.varState = varState;
     this.rowState = rowState;
     this.bland = false;
+    this.lastAddedRow = -1;
+    this.clearIgnoredRows();
     this.prepareDenseRows(problem);
     let xs = 1;
     for (let i = 0; i < n; i++) xs = Math.max(xs, Math.abs(x[i]));
@@ -201,7 +216,14 @@ export class ActiveSetEngine {
     for (; iterations < options.maxIterations; iterations++) {
       if (schurDirty) {
         if (!this.computeSchur()) {
+          if (this.lastAddedRow >= 0) {
+            // The row that just blocked is dependent on the working set: take it out again and
+            // keep it from blocking on this face (see ignoredRows).
+            this.undoRowAdd();
+            continue;
+          }
           // Rounding made the active rows (nearly) dependent: rebuild a clean working set.
+          this.clearIgnoredRows();
           this.normaliseWorkingSet();
           this.factorizeFrom(this.level);
           this.gradientAge = Infinity;
@@ -541,6 +563,11 @@ export class ActiveSetEngine {
     }
     const n = this.problem.n;
     for (let i = 0; i < n; i++) if (this.pos[i] < 0) p[i] = 0;
+    // As many independent active rows as free variables: the face is a single point (a vertex),
+    // so the exact step is zero. Whatever the solves left is rounding, and following it only
+    // lets a dependent row or bound "block" at α = 0 again and again (seen with many
+    // overlapping group rows). The multipliers ν above are exact for the vertex.
+    if (m >= nf) for (let j = 0; j < nf; j++) p[free[j]] = 0;
   }
 
   // ---------------------------------------------------------------------------------------------
@@ -584,7 +611,7 @@ export class ActiveSetEngine {
     }
     const rs = this.rowState;
     for (let r = 0; r < rows.length; r++) {
-      if (rs[r] !== FREE) continue;
+      if (rs[r] !== FREE || this.ignoredRows[r]) continue;
       const row = rows[r];
       if (row.lo === -Infinity && row.hi === Infinity) continue;
       let dir = 0;
@@ -645,7 +672,9 @@ export class ActiveSetEngine {
 
   private addBlocker(blocker: number): void {
     const n = this.problem.n;
+    this.lastAddedRow = blocker < n ? -1 : blocker - n;
     if (blocker < n) {
+      this.clearIgnoredRows();
       const i = blocker;
       this.x[i] = this.blockSide === AT_LOWER ? this.problem.lower[i] : this.problem.upper[i];
       this.varState[i] = this.blockSide;
@@ -761,6 +790,8 @@ export class ActiveSetEngine {
 
   private dropConstraint(which: number): void {
     const n = this.problem.n;
+    this.lastAddedRow = -1;
+    this.clearIgnoredRows();
     if (which < n) {
       const i = which;
       this.varState[i] = FREE;
@@ -777,6 +808,22 @@ export class ActiveSetEngine {
       // The augmented matrix loses a term: refactor (row drops are rare).
       if (this.level >= 1) this.factorizeFrom(this.level);
     }
+  }
+
+  /** Takes the last added row out of the working set again and marks it as ignored. */
+  private undoRowAdd(): void {
+    const r = this.lastAddedRow;
+    this.lastAddedRow = -1;
+    this.nActive--;
+    this.rowState[r] = FREE;
+    this.ignoredRows[r] = 1;
+    this.ignoredList.push(r);
+    if (this.level >= 1) this.factorizeFrom(this.level);
+  }
+
+  private clearIgnoredRows(): void {
+    for (const r of this.ignoredList) this.ignoredRows[r] = 0;
+    this.ignoredList.length = 0;
   }
 
   private writeMultipliers(rowMultipliers: Float64Array, boundMultipliers: Float64Array): void {

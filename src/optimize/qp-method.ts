@@ -1,6 +1,6 @@
 import { isQpWarmStart, solveQp, type QpWorkspace } from './qp.js';
 import type { QpProblem, QpSolution } from './qp-types.js';
-import type { MethodResult } from './types.js';
+import { ACCEPTED_KKT_RESIDUAL, type MethodResult } from './types.js';
 
 /** Options shared by the QP-based methods. */
 export interface QpMethodOptions {
@@ -41,17 +41,21 @@ export function solveMethodQp(problem: QpProblem, options: QpMethodOptions = {})
       message: 'Some assets have zero specific variance, so the factor model was expanded to a full covariance matrix.',
     });
   }
-  if (!solution.converged) {
+  // Converged only when the solver's own test passed and the KKT residual meets the documented tolerance.
+  const converged = solution.converged && solution.kktResidual <= ACCEPTED_KKT_RESIDUAL;
+  if (!converged) {
     warnings.push({
       code: 'not-converged',
-      message: `The QP solver stopped after ${solution.iterations} iterations without meeting its optimality test (KKT residual ${solution.kktResidual.toExponential(2)}).`,
+      message: solution.converged
+        ? `The QP solver stopped with KKT residual ${solution.kktResidual.toExponential(2)}, above the accepted ${ACCEPTED_KKT_RESIDUAL}.`
+        : `The QP solver stopped after ${solution.iterations} iterations without meeting its optimality test (KKT residual ${solution.kktResidual.toExponential(2)}).`,
     });
   }
   return {
     weights: solution.x,
     diagnostics: {
       iterations: solution.iterations + solution.phase1Iterations,
-      converged: solution.converged,
+      converged,
       kktResidual: solution.kktResidual,
       solver: solution.hessianForm === 'factor' ? 'active-set QP (factor model, Woodbury)' : 'active-set QP (dense)',
     },

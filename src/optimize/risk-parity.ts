@@ -4,6 +4,7 @@ import type { FactorRiskModel, RiskModel } from '../linalg/risk-model.js';
 import { assetVariances, covTimes } from '../linalg/risk-ops.js';
 import { constraintsNotAppliedWarnings } from './constraint-check.js';
 import type { ConstraintSet, MethodResult } from './types.js';
+import { firstNearZeroVariance, nearZeroVarianceMessage } from './degenerate.js';
 import { OptimizationError } from './types.js';
 
 /**
@@ -28,6 +29,17 @@ import { OptimizationError } from './types.js';
 
 /** Residual accepted as converged: x∘(Σx) = b verified to this absolute accuracy. */
 export const RISK_PARITY_ACCEPT_TOLERANCE = 1e-10;
+/**
+ * Largest residual max|x_i(Σx)_i − b_i| that cancellation in Σx may excuse (accepted with an
+ * 'ill-conditioned' warning). Budgets sum to 1, so 1e-8 leaves every risk contribution within a
+ * millionth of a percentage point of its budget.
+ */
+export const RISK_PARITY_ILL_CONDITIONED_MAX = 1e-8;
+/**
+ * A long-only portfolio whose variance is below this share of (Σ w_i σ_i)² is "riskless": the
+ * assets in it hedge each other (almost) perfectly.
+ */
+const ZERO_RISK_SHARE = 1e-12;
 /** Residual the solvers aim for before stopping (well inside the accepted one). */
 export const RISK_PARITY_TARGET_TOLERANCE = 1e-12;
 /**
@@ -598,6 +610,33 @@ function loadStart(model: RiskModel, ws: RiskParityWorkspace, warmStart: unknown
  * Long-only and fully invested by construction; the caller's bounds and groups are not applied
  * but reported in warnings ('constraints-not-applied').
  */
+/**
+ * Why no risk-budgeting portfolio exists, when that is the reason a solve failed: Spinu's
+ * objective ½xᵀΣx − Σ b_i ln x_i has a minimiser iff no nonzero x ≥ 0 has Σx = 0 — along such an
+ * x the quadratic term stays 0 while the log terms fall without bound (Spinu 2013, §2, from
+ * memory). The solvers then drift towards that zero-risk combination, so a failed result whose
+ * variance is (almost) 0 relative to its stand-alone risks names it. Undefined otherwise.
+ */
+function zeroRiskCombination(model: RiskModel, weights: Float64Array, variances: Float64Array, assetNames: readonly string[] | undefined): string | undefined {
+  const n = model.n;
+  const sigmaW = new Float64Array(n);
+  covTimes(model, weights, sigmaW, new Float64Array(model.kind === 'factor' ? 2 * model.k : 2));
+  let variance = 0;
+  let standalone = 0;
+  for (let i = 0; i < n; i++) {
+    variance += weights[i] * sigmaW[i];
+    standalone += weights[i] * Math.sqrt(variances[i]);
+  }
+  if (!(variance <= ZERO_RISK_SHARE * standalone * standalone)) return undefined;
+  const members: string[] = [];
+  for (let i = 0; i < n; i++) if (weights[i] > 1e-6) members.push(assetNames?.[i] ?? `asset ${i}`);
+  return (
+    `risk parity has no solution for these inputs: the long-only combination of ${members.join(', ')} has zero risk ` +
+    '(the assets hedge each other perfectly; the covariance matrix is singular), so their risk contributions cannot be ' +
+    'positive and equal to the budgets at any allocation. Drop one of them, or use a covariance estimate without the perfect hedge.'
+  );
+}
+
 export function solveRiskParity(model: RiskModel, options: RiskParityOptions = {}): RiskParityResult {
   const n = model.n;
   if (!Number.isInteger(n) || n < 1) throw new OptimizationError('invalid-input', 'risk parity needs at least one asset');
@@ -613,6 +652,8 @@ export function solveRiskParity(model: RiskModel, options: RiskParityOptions = {
       throw new OptimizationError('invalid-input', `risk parity needs positive finite asset variances; asset ${i} has ${v}`);
     }
   }
+  const degenerate = firstNearZeroVariance(ws.variances, n);
+  if (degenerate >= 0) throw new OptimizationError('singular', nearZeroVarianceMessage('risk parity', degenerate, ws.variances[degenerate], options.assetNames));
   const tolerance = options.tolerance ?? RISK_PARITY_TARGET_TOLERANCE;
   const maxNewton = options.maxNewtonIterations ?? 100;
   const maxSweeps = options.maxSweeps ?? 1_000;
@@ -670,7 +711,13 @@ export function solveRiskParity(model: RiskModel, options: RiskParityOptions = {
   const weights = new Float64Array(n);
   for (let i = 0; i < n; i++) weights[i] = ws.x[i] / total;
   const floor = residual > RISK_PARITY_ACCEPT_TOLERANCE ? residualRoundingFloor(model, ws.x, ws.s, ws.scratchK) : 0;
-  const converged = residual <= Math.max(RISK_PARITY_ACCEPT_TOLERANCE, floor);
+  // Rounding can excuse a residual only up to RISK_PARITY_ILL_CONDITIONED_MAX: beyond it the
+  // contributions are visibly unequal and the result is not an answer.
+  const converged = residual <= Math.max(RISK_PARITY_ACCEPT_TOLERANCE, Math.min(floor, RISK_PARITY_ILL_CONDITIONED_MAX));
+  if (!converged) {
+    const hedged = zeroRiskCombination(model, weights, ws.variances, options.assetNames);
+    if (hedged) throw new OptimizationError('singular', hedged, 'risk parity has no solution: a long-only combination of assets has zero risk');
+  }
 
   const warnings: { code: string; message: string }[] = [];
   if (converged && residual > RISK_PARITY_ACCEPT_TOLERANCE) {

@@ -19,6 +19,14 @@ export interface ConstraintSet {
   readonly groups: readonly GroupConstraint[];
 }
 
+/**
+ * Largest KKT residual with which a QP-based solve counts as converged (per-period units; weights
+ * are fractions, so 1e-8 is a millionth of a basis point). The solvers aim far lower (about
+ * 1e-14 on well-posed problems); a residual above this means the returned weights are not an
+ * optimum, and the stress engine counts the draw as failed (meta.failureReasons).
+ */
+export const ACCEPTED_KKT_RESIDUAL = 1e-8;
+
 /** How a solve went; reported beside every optimum. */
 export interface SolveDiagnostics {
   readonly iterations: number;
@@ -42,6 +50,8 @@ export class OptimizationError extends Error {
   constructor(
     readonly code: 'infeasible' | 'unbounded' | 'not-converged' | 'singular' | 'invalid-input',
     message: string,
+    /** A short label without per-solve details, so failed draws with the same cause are counted together. */
+    readonly label?: string,
   ) {
     super(message);
     this.name = 'OptimizationError';

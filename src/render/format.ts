@@ -10,26 +10,26 @@ import type { MethodSpec } from '../schema/proposal.js';
 const NOT_AVAILABLE = 'n/a';
 
 /** Fixed-point text of a finite number; `-0.0` becomes `0.0` so rounding never shows a sign that means nothing. */
-export function formatFixed(value: number, decimals: number): string {
-  if (!Number.isFinite(value)) return NOT_AVAILABLE;
+export function formatFixed(value: number | null, decimals: number): string {
+  if (value === null || !Number.isFinite(value)) return NOT_AVAILABLE;
   const text = value.toFixed(decimals);
   return /^-0(\.0*)?$/.test(text) ? text.slice(1) : text;
 }
 
 /** A fraction as a percentage: 0.1234 → `12.3%` (weights, shares, rates, returns). */
-export function formatPercent(fraction: number, decimals = 1): string {
-  if (!Number.isFinite(fraction)) return NOT_AVAILABLE;
+export function formatPercent(fraction: number | null, decimals = 1): string {
+  if (fraction === null || !Number.isFinite(fraction)) return NOT_AVAILABLE;
   return `${formatFixed(fraction * 100, decimals)}%`;
 }
 
-/** A value with its Monte Carlo standard error, both as percentages: `12.3% ± 0.4%`. */
-export function formatPercentWithError(fraction: number, stdErr: number, decimals = 1): string {
+/** A value with its Monte Carlo standard error, both as percentages: `12.3% ± 0.4%` (`± n/a` when the error cannot be estimated). */
+export function formatPercentWithError(fraction: number, stdErr: number | null, decimals = 1): string {
   return `${formatPercent(fraction, decimals)} ± ${formatPercent(stdErr, decimals)}`;
 }
 
 /** A fraction in basis points (1 bp = 0.0001): 0.01234 → `123 bp`. */
-export function formatBasisPoints(fraction: number, decimals = 0): string {
-  if (!Number.isFinite(fraction)) return NOT_AVAILABLE;
+export function formatBasisPoints(fraction: number | null, decimals = 0): string {
+  if (fraction === null || !Number.isFinite(fraction)) return NOT_AVAILABLE;
   return `${formatFixed(fraction * 10_000, decimals)} bp`;
 }
 
@@ -65,7 +65,7 @@ export function formatCount(value: number): string {
  * sample median's asymptotic variance is πσ²/(2n) for normal data, √(π/2) ≈ 1.25× the mean's
  * error — a standard large-sample result, quoted from memory).
  */
-export function medianError(stat: Stat): { stdErr: number; isMeanError: boolean } {
+export function medianError(stat: Stat): { stdErr: number | null; isMeanError: boolean } {
   return stat.p50StdErr === undefined ? { stdErr: stat.stdErr, isMeanError: true } : { stdErr: stat.p50StdErr, isMeanError: false };
 }
 

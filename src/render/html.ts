@@ -309,7 +309,7 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string {
       cell(escapeHtml(formatPercentRange(m.turnoverFromProposal.p05, m.turnoverFromProposal.p95)), true) +
       cell(medianText(m.turnoverFromBase), true) +
       cell(escapeHtml(formatPercentRange(m.volatility.p05, m.volatility.p95)), true) +
-      cell(escapeHtml(`${formatBasisPoints(m.certaintyEquivalentLoss.mean)} ± ${formatFixed(m.certaintyEquivalentLoss.stdErr * 10_000, 0)}`), true) +
+      cell(escapeHtml(`${formatBasisPoints(m.certaintyEquivalentLoss.mean)} ± ${formatFixed(m.certaintyEquivalentLoss.stdErr === null ? null : m.certaintyEquivalentLoss.stdErr * 10_000, 0)}`), true) +
       cell(escapeHtml(formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr)), true) +
       cell(escapeHtml(formatPercentWithError(m.outsideBandShare.value, m.outsideBandShare.stdErr)), true) +
       cell(escapeHtml(formatCount(m.failedDraws)), true) +
@@ -329,7 +329,7 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string {
 }
 
 function statRow(label: string, stat: Stat, inBasisPoints: boolean): string {
-  const fmt = (v: number) => (inBasisPoints ? formatBasisPoints(v) : formatPercent(v, 2));
+  const fmt = (v: number | null) => (inBasisPoints ? formatBasisPoints(v) : formatPercent(v, 2));
   const median = medianError(stat);
   return (
     `<tr>${cell(escapeHtml(label))}` +

@@ -45,8 +45,8 @@ function attributes(pairs: Record<string, string | number>): string {
 }
 
 /** Full precision beside the rounded percentage, so a CI log carries the exact figures. */
-function figure(value: number): string {
-  return `${formatPercent(value, 2)} (${value})`;
+function figure(value: number | null): string {
+  return value === null ? 'n/a (not estimable)' : `${formatPercent(value, 2)} (${value})`;
 }
 
 export function renderVerdictJunit(r: Report): string {

@@ -125,7 +125,7 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string[] {
     formatPercentRange(m.turnoverFromProposal.p05, m.turnoverFromProposal.p95),
     medianCell(m.turnoverFromBase),
     formatPercentRange(m.volatility.p05, m.volatility.p95),
-    `${formatBasisPoints(m.certaintyEquivalentLoss.mean)} ± ${formatFixed(m.certaintyEquivalentLoss.stdErr * 10_000, 0)}`,
+    `${formatBasisPoints(m.certaintyEquivalentLoss.mean)} ± ${formatFixed(m.certaintyEquivalentLoss.stdErr === null ? null : m.certaintyEquivalentLoss.stdErr * 10_000, 0)}`,
     formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr),
     formatPercentWithError(m.outsideBandShare.value, m.outsideBandShare.stdErr),
     formatPercentWithError(m.maxWeightSd.value, m.maxWeightSd.stdErr),
@@ -159,7 +159,7 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string[] {
 
 function statRow(label: string, stat: Stat, percent: boolean): string[] {
   const fmt = (x: number) => (percent ? formatPercent(x, 2) : formatBasisPoints(x));
-  const err = (x: number) => (percent ? formatPercent(x, 2) : formatBasisPoints(x));
+  const err = (x: number | null) => (percent ? formatPercent(x, 2) : formatBasisPoints(x));
   const median = medianError(stat);
   return [label, `${fmt(stat.mean)} ± ${err(stat.stdErr)}`, fmt(stat.p05), `${fmt(stat.p50)} ± ${err(median.stdErr)}${median.isMeanError ? ' †' : ''}`, fmt(stat.p95)];
 }

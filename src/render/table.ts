@@ -271,7 +271,7 @@ function methodSection(r: Report): string[] {
         right(`${formatPercentWithError(t.p50, median.stdErr)}${median.isMeanError ? '†' : ' '}`, c.turnover),
         right(bandText(t.p05, t.p95), c.turnoverBand),
         right(bandText(m.volatility.p05, m.volatility.p95), c.volatility),
-        right(`${formatBasisPoints(ce.mean)} ± ${formatFixed(ce.stdErr * 10_000, 0)}`, c.ceLoss),
+        right(`${formatBasisPoints(ce.mean)} ± ${formatFixed(ce.stdErr === null ? null : ce.stdErr * 10_000, 0)}`, c.ceLoss),
         right(formatPercentWithError(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr), c.meanDriven),
         right(formatPercentWithError(m.outsideBandShare.value, m.outsideBandShare.stdErr), c.outside),
       ].join(GAP),

@@ -72,7 +72,8 @@ export async function computeRange(request: RangeRequest, options: RangeComputeO
   const plan = planStress(validation.proposal, validation.warnings, {
     draws: request.draws,
     seed: request.seed,
-    limits: { ...options.limits, workShares: rangeWorkShares(request) },
+    maxWork: options.limits?.maxWork,
+    workShares: rangeWorkShares(request),
   });
   const acc = createAccumulators(plan);
   const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;

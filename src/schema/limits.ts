@@ -15,17 +15,50 @@ export const LIMITS = {
   /** Request body size in bytes (413 above it). */
   maxBodyBytes: 16 * 1024 * 1024,
   /**
-   * Work budget: estimated floating-point operations for a whole stress request
-   * (draws × (estimation + every solve in every channel); src/stress/work-estimate.ts).
-   * Measured at about 1–1.3 ns per counted operation on a 2-core development machine, so the
-   * budget is roughly 10–30 s of CPU, inside the Worker's configured cpu_ms (wrangler.toml).
+   * Work budget in counted units for a whole request: validation, preparation, every solve of
+   * every channel of every draw, summaries, and both runs of a check against a baseline proposal
+   * (src/cost/work-model.ts). Calibrated on the worst shape of each kind at up to about 2 ns per
+   * unit on a 2-core development machine (DEVELOPERS.md, "Request cost"), so the budget is at
+   * most ~40 s of CPU, well inside the Worker's configured cpu_ms (wrangler.toml). Deployments
+   * may pass a lower maximum (run options `maxWork`).
    */
   maxWorkUnits: 2e10,
   /**
-   * Numbers kept in memory for exact percentiles: draws × assets × (methods + 1), 8 bytes each.
-   * 6e6 is 48 MB, leaving room in a 128 MB Workers isolate.
+   * Peak memory estimated from the request's shape (src/cost/memory-model.ts, which includes
+   * 24 MB for the runtime and uncollected garbage): 96 MB, leaving 32 MB of a 128 MB Workers
+   * isolate as headroom. Measured heap + ArrayBuffer peaks of the worst accepted shapes are in
+   * DEVELOPERS.md, "Request cost".
    */
-  maxStoredValues: 6e6,
+  maxMemoryBytes: 96 * 1024 * 1024,
+  /** Largest response (JSON text) estimated from the shape. */
+  maxResponseBytes: 12 * 1024 * 1024,
+  /**
+   * Characters in an asset, factor or group id. Ids come back several times in a report (weights,
+   * bands, risk shares, every method…), about 10× in JSON; 2000 assets × 64 characters × 10 keeps
+   * the names' share of a response near 1.3 MB. Long enough for ISINs, FIGIs and "ticker:exchange".
+   */
+  maxIdLength: 64,
+  /**
+   * Group constraints. Each group is a row of the QP that every solve (base and per draw) must
+   * test, and overlapping groups make the working set large; the solve cost grows with groups ×
+   * assets (measured in DEVELOPERS.md, "Request cost"). Sectors × regions × a few issuers fit.
+   */
+  maxGroups: 200,
+  /** Σ over groups of the number of members (the QP's group rows are this long in total). */
+  maxGroupMemberships: 20_000,
+  /**
+   * Magnitudes of caller numbers, chosen so that no product the service forms (quadratic forms,
+   * annualising by up to 100 000 periods a year, Kelly scenarios) can overflow a double, while
+   * still far above any sensible input (per-period returns are fractions: 0.01 = 1 %).
+   */
+  maxAbsReturn: 1e3,
+  /** Variances, covariances, factor covariances, specific variances and standard errors. */
+  maxAbsVariance: 1e6,
+  /** Weights, bounds, the budget, group limits and the risk-free rate (leverage up to 1000×). */
+  maxAbsWeight: 1e3,
+  /** Risk aversion λ and 1/(Kelly fraction) stay within [1e-6, 1e6]. */
+  maxRiskAversion: 1e6,
+  minRiskAversion: 1e-6,
 } as const;
 
 /** Tolerances used by validation, stated once so the README and errors can quote them. */

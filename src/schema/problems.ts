@@ -41,7 +41,7 @@ export function statusFor(problems: readonly Problem[]): 400 | 413 | 422 {
 type Issue = z.core.$ZodIssue;
 
 /** Fields whose maximum is a service limit rather than a rule of the contract. */
-const LIMITED_FIELDS = new Set(['assets', 'returns', 'draws', 'names', 'factors']);
+const LIMITED_FIELDS = new Set(['assets', 'returns', 'draws', 'names', 'factors', 'groups']);
 
 /**
  * Flatten zod issues into problems. For a union that failed in every branch, report the

@@ -6,9 +6,17 @@ import { LIMITS } from './limits.js';
  * Shape only; semantic checks (lengths, symmetry, PSD, feasibility) live in validate.ts.
  */
 
-const finite = z.number();
-const vector = z.array(finite);
-const matrix = z.array(z.array(finite));
+/** A number of at most `max` in magnitude (LIMITS: no product the service forms can overflow). */
+const bounded = (max: number) => z.number().min(-max).max(max);
+const returnValue = bounded(LIMITS.maxAbsReturn);
+const varianceValue = bounded(LIMITS.maxAbsVariance);
+const weightValue = bounded(LIMITS.maxAbsWeight);
+const vector = z.array(returnValue);
+const matrix = z.array(z.array(returnValue));
+const varianceMatrix = z.array(z.array(varianceValue));
+const weightVector = z.array(weightValue);
+/** An asset, factor or group id. */
+const id = z.string().min(1).max(LIMITS.maxIdLength);
 const periodsPerYear = z
   .number()
   .positive()
@@ -17,7 +25,7 @@ const periodsPerYear = z
 
 export const FactorReturnsSchema = z
   .strictObject({
-    names: z.array(z.string().min(1)).min(1).max(LIMITS.maxFactors).describe('Factor ids, unique.'),
+    names: z.array(id).min(1).max(LIMITS.maxFactors).describe('Factor ids, unique.'),
     returns: matrix.describe('T×K simple per-period factor returns, rows aligned with the asset returns.'),
   })
   .describe('Factor return history for a regression factor model.');
@@ -36,7 +44,7 @@ export const HistoryInputsSchema = z
 export const MomentsInputsSchema = z
   .strictObject({
     mean: vector.describe('Per-period expected simple returns, in the order of `assets`.'),
-    covariance: matrix.describe('N×N per-period covariance of simple returns.'),
+    covariance: varianceMatrix.describe('N×N per-period covariance of simple returns.'),
     observations: z.int().min(2).describe('Number of observations the moments were estimated from (T); sets the parameter noise.'),
     periodsPerYear,
   })
@@ -44,10 +52,10 @@ export const MomentsInputsSchema = z
 
 export const FactorModelSchema = z
   .strictObject({
-    factors: z.array(z.string().min(1)).min(1).max(LIMITS.maxFactors).describe('Factor ids, unique.'),
+    factors: z.array(id).min(1).max(LIMITS.maxFactors).describe('Factor ids, unique.'),
     loadings: matrix.describe('N×K exposures B.'),
-    factorCovariance: matrix.describe('K×K per-period factor covariance F.'),
-    specificVariance: vector.describe('Per-period specific (idiosyncratic) variances, the diagonal of D.'),
+    factorCovariance: varianceMatrix.describe('K×K per-period factor covariance F.'),
+    specificVariance: z.array(varianceValue).describe('Per-period specific (idiosyncratic) variances, the diagonal of D.'),
   })
   .describe('Σ = B F Bᵀ + D.');
 
@@ -63,11 +71,11 @@ export const FactorInputsSchema = z
 export const InputsSchema = z.union([HistoryInputsSchema, MomentsInputsSchema, FactorInputsSchema]);
 
 export const RiskAversionSchema = z.union([
-  z.number().positive().describe('λ in μᵀw − (λ/2)·wᵀΣw.'),
+  z.number().min(LIMITS.minRiskAversion).max(LIMITS.maxRiskAversion).describe('λ in μᵀw − (λ/2)·wᵀΣw.'),
   z
     .strictObject({
-      factor: z.number().positive().describe('λ_f, aversion to factor risk wᵀBFBᵀw.'),
-      specific: z.number().positive().describe('λ_s, aversion to specific risk wᵀDw.'),
+      factor: z.number().min(LIMITS.minRiskAversion).max(LIMITS.maxRiskAversion).describe('λ_f, aversion to factor risk wᵀBFBᵀw.'),
+      specific: z.number().min(LIMITS.minRiskAversion).max(LIMITS.maxRiskAversion).describe('λ_s, aversion to specific risk wᵀDw.'),
     })
     .describe('Separate risk aversion for factor and specific risk (needs a factor model).'),
 ]);
@@ -82,7 +90,7 @@ export const MethodSpecSchema = z.discriminatedUnion('name', [
       name: z.literal('kelly'),
       fraction: z
         .number()
-        .gt(0)
+        .min(1 / LIMITS.maxRiskAversion)
         .max(1)
         .optional()
         .describe('Fraction f of full Kelly; constant relative risk aversion 1/f. 1 (default) is log utility.'),
@@ -91,30 +99,31 @@ export const MethodSpecSchema = z.discriminatedUnion('name', [
   z
     .strictObject({
       name: z.literal('risk-parity'),
-      budgets: vector.optional().describe('Risk budgets per asset (positive, normalised to sum 1); default equal.'),
+      budgets: z.array(bounded(LIMITS.maxRiskAversion)).optional().describe('Risk budgets per asset (positive, normalised to sum 1); default equal.'),
     })
     .describe('Equal (or budgeted) risk contributions; long-only, fully invested.'),
   z.strictObject({ name: z.literal('equal-weight') }).describe('1/N of the budget in each asset.'),
   z.strictObject({ name: z.literal('inverse-volatility') }).describe('Weights proportional to 1/σ_i.'),
 ]);
 
-const boundSchema = z.union([finite, vector]);
+const boundSchema = z.union([weightValue, weightVector]);
 
 export const ConstraintsSchema = z
   .strictObject({
     longOnly: z.boolean().default(true).describe('No short positions (default true).'),
-    budget: finite.default(1).describe('Σ w_i (default 1, fully invested).'),
+    budget: weightValue.default(1).describe('Σ w_i (default 1, fully invested).'),
     lower: boundSchema.optional().describe('Lower bound per asset: one number for all, or one per asset.'),
     upper: boundSchema.optional().describe('Upper bound per asset: one number for all, or one per asset.'),
     groups: z
       .array(
         z.strictObject({
-          name: z.string().min(1),
-          assets: z.array(z.string()).min(1).describe('Asset ids in the group.'),
-          min: finite.optional().describe('Minimum total weight of the group.'),
-          max: finite.optional().describe('Maximum total weight of the group.'),
+          name: id,
+          assets: z.array(z.string().max(LIMITS.maxIdLength)).min(1).max(LIMITS.maxAssets).describe('Asset ids in the group (each at most once).'),
+          min: weightValue.optional().describe('Minimum total weight of the group.'),
+          max: weightValue.optional().describe('Maximum total weight of the group.'),
         }),
       )
+      .max(LIMITS.maxGroups)
       .optional()
       .describe('Group limits: min ≤ Σ of the members’ weights ≤ max.'),
   })
@@ -154,7 +163,7 @@ export const ResamplingSchema = z
 export const ViewsSchema = z
   .strictObject({
     mean: vector.describe('Per-period return forecasts that replace the estimated means.'),
-    stdErr: vector.describe('Per-period standard errors of those forecasts; their noise in resampling.'),
+    stdErr: z.array(varianceValue).describe('Per-period standard errors of those forecasts; their noise in resampling.'),
   })
   .describe('Return forecasts with their own uncertainty.');
 
@@ -180,9 +189,9 @@ export const PolicyRuleSchema = z.strictObject({
     .enum(METHOD_NAMES)
     .optional()
     .describe("Which method's figures (default: the proposal's method)."),
-  max: finite.optional().describe('Fails when the value is above this by more than Monte Carlo error allows.'),
-  min: finite.optional().describe('Fails when the value is below this by more than Monte Carlo error allows.'),
-  maxIncrease: finite.optional().describe('Largest allowed increase over the baseline (same metric, same seed).'),
+  max: z.number().optional().describe('Fails when the value is above this by more than Monte Carlo error allows.'),
+  min: z.number().optional().describe('Fails when the value is below this by more than Monte Carlo error allows.'),
+  maxIncrease: z.number().optional().describe('Largest allowed increase over the baseline (same metric, same seed).'),
 });
 
 export const PolicySchema = z
@@ -194,8 +203,8 @@ export const PolicySchema = z
 
 export const ProposalSchema = z
   .strictObject({
-    assets: z.array(z.string().min(1)).min(LIMITS.minAssets).max(LIMITS.maxAssets).describe('Unique asset ids.'),
-    weights: vector.describe('The proposed allocation, fractions in the order of `assets`.'),
+    assets: z.array(id).min(LIMITS.minAssets).max(LIMITS.maxAssets).describe('Unique asset ids.'),
+    weights: weightVector.describe('The proposed allocation, fractions in the order of `assets`.'),
     inputs: InputsSchema,
     views: ViewsSchema.optional(),
     method: MethodSpecSchema.describe('How the proposal was built.'),
@@ -203,7 +212,7 @@ export const ProposalSchema = z
     constraints: ConstraintsSchema.optional(),
     estimation: EstimationSchema.optional(),
     resampling: ResamplingSchema.optional(),
-    riskFreeRate: finite.default(0).describe('Annual risk-free rate (default 0).'),
+    riskFreeRate: weightValue.default(0).describe('Annual risk-free rate (default 0).'),
     policy: PolicySchema.optional(),
   })
   .describe('A proposed allocation with the inputs it was built from.');

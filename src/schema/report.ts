@@ -8,6 +8,9 @@ import { MethodSpecSchema } from './proposal.js';
 
 const fraction = z.number();
 
+/** A Monte Carlo standard error: null when it cannot be estimated (fewer than 2 successful draws; the report warns). */
+export const MonteCarloErrorSchema = z.number().min(0).nullable();
+
 export const WarningSchema = z.strictObject({
   code: z.string().describe('Stable machine-readable code.'),
   message: z.string().describe('Plain-language explanation.'),
@@ -42,18 +45,18 @@ export const BaseOptimumSchema = z
 export const StatSchema = z
   .strictObject({
     mean: z.number(),
-    stdErr: z.number().min(0).describe('Monte Carlo standard error of the mean (sd/√draws).'),
+    stdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of the mean (sd/√draws); null when it cannot be estimated.'),
     p05: z.number(),
     p50: z.number(),
     p95: z.number(),
-    p50StdErr: z.number().min(0).optional().describe('Monte Carlo standard error of the median (batch means).'),
+    p50StdErr: MonteCarloErrorSchema.optional().describe('Monte Carlo standard error of the median (order-statistic interval, see meta.monteCarloError).'),
   })
   .describe('Summary over draws.');
 
 export const BandSchema = StatSchema.extend({ base: z.number().describe('Value on the unperturbed inputs.') });
 
 export const EstimateSchema = z
-  .strictObject({ value: z.number(), stdErr: z.number().min(0).describe('Monte Carlo standard error (batch means).') })
+  .strictObject({ value: z.number(), stdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error (method in meta.monteCarloError); null when it cannot be estimated.') })
   .describe('A draw-based figure with its Monte Carlo error.');
 
 export const WeightBandSchema = z.strictObject({
@@ -65,8 +68,11 @@ export const WeightBandSchema = z.strictObject({
   p50: z.number(),
   p75: z.number(),
   p95: z.number(),
-  bandStdErr: z.number().min(0).describe('Monte Carlo standard error of p05 and p95 (the larger; batch means).'),
+  bandStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of p05 and p95 (the larger; order-statistic interval).'),
+  meanStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `mean` (sd/√draws).'),
+  p50StdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `p50` (order-statistic interval; exactly 0 when the draws around the median are tied).'),
   selectionRate: z.number().min(0).max(1).describe('Share of draws where |w_i| exceeds the selection threshold.'),
+  selectionRateStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `selectionRate` (binomial, √(p(1−p)/(n−1))).'),
   proposalPercentile: z.number().min(0).max(100).describe("Where the proposal's weight falls in the resampled distribution (mid-rank percentile, 0–100)."),
 });
 
@@ -134,7 +140,7 @@ export const MethodReportSchema = z.strictObject({
     .strictObject({
       overall: z.number().min(0).max(1),
       perAsset: z.array(z.number().min(0).max(1)),
-      stdErr: z.number().min(0).describe('Monte Carlo standard error of `overall` (batch means).'),
+      stdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `overall` (delete-one-group jackknife).'),
     })
     .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
   resampledAverage: z.array(z.number()).describe('Weights averaged over draws.'),
@@ -153,8 +159,10 @@ export const ReportMetaSchema = z.strictObject({
   drawsRequested: z.int(),
   drawsCompleted: z.int(),
   failedDraws: z.int().describe('Draws where at least one method failed to solve; those draws are excluded for that method.'),
-  failureReasons: z.array(z.strictObject({ method: z.string(), reason: z.string(), count: z.int() })),
-  elapsedMs: z.number().describe('Wall time; with threads and shards the only fields that may vary between identical runs.'),
+  failureReasons: z
+    .array(z.strictObject({ method: z.string(), reason: z.string(), count: z.int() }))
+    .describe('Why draws failed, counted per method (with its parameters, e.g. "kelly (fraction 0.5)") and reason: a solve that did not converge, was unbounded, or whose KKT residual exceeded the documented tolerance, or inputs that could not be estimated.'),
+  elapsedMs: z.number().describe('Wall time; with meta.threads and meta.shards the only fields that may vary between identical runs.'),
   inputDigest: z.string().describe('sha-256 (hex) of the canonical proposal JSON (keys sorted).'),
   scheme: z.enum(['stationary-bootstrap', 'iid-bootstrap', 'parametric']),
   meanBlockLength: z.number().nullable().describe('Mean block length used by the stationary bootstrap, else null.'),
@@ -175,7 +183,7 @@ export const VerdictRuleSchema = z.strictObject({
   metric: z.string(),
   method: z.string(),
   value: z.number(),
-  stdErr: z.number().min(0),
+  stdErr: MonteCarloErrorSchema,
   threshold: z.number(),
   kind: z.enum(['max', 'min', 'maxIncrease']),
   baselineValue: z.number().optional(),

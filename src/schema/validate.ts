@@ -1,8 +1,11 @@
-import { TOLERANCES } from './limits.js';
+import { LIMITS, TOLERANCES } from './limits.js';
 import { expandBound } from './bounds.js';
 import { checkPsd, checkShape, checkSymmetric } from './matrix-checks.js';
 import { problem, problemsFromZod, type Problem } from './problems.js';
 import { ProposalSchema, type MethodSpec, type Proposal } from './proposal.js';
+import { priceRequest, type CostOptions } from '../cost/check.js';
+import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
+import { methodList } from '../stress/problem.js';
 
 export interface Warning {
   readonly code: string;
@@ -13,11 +16,22 @@ export type Validation =
   | { readonly ok: true; readonly proposal: Proposal; readonly warnings: Warning[] }
   | { readonly ok: false; readonly problems: Problem[] };
 
+/** What the validated proposal is for, so it can be priced before the costly checks. */
+export interface ValidationContext extends CostOptions {
+  /** The job the proposal will run (default 'validate': only validation itself is priced). */
+  readonly job?: Job;
+  /** Draws overriding the proposal's own (CLI --draws). */
+  readonly draws?: number;
+}
+
 /**
- * Validates a parsed JSON body: shape with zod, then every semantic rule, collecting all
- * problems at once.
+ * Validates a parsed JSON body: shape with zod, then every cheap semantic rule, collecting all
+ * problems at once; then prices the request for `context.job` (413 problems when over a limit)
+ * before the costly matrix checks (positive semi-definiteness), which run only when it fits.
  */
-export function validateProposal(body: unknown): Validation {
+export function validateProposal(body: unknown, context: ValidationContext = {}): Validation {
+  const early = preflight(body, context);
+  if (early) return { ok: false, problems: [early] };
   const parsed = ProposalSchema.safeParse(body);
   if (!parsed.success) {
     return { ok: false, problems: problemsFromZod(parsed.error.issues) };
@@ -27,9 +41,11 @@ export function validateProposal(body: unknown): Validation {
   const warnings: Warning[] = [];
   const n = proposal.assets.length;
 
+  const costly: (() => void)[] = [];
   checkAssets(proposal, problems);
   checkLength(proposal.weights, n, ['weights'], 'weights', problems);
-  checkInputs(proposal, problems, warnings);
+  const singular = { found: false };
+  checkInputs(proposal, problems, warnings, costly, singular);
   checkViews(proposal, problems);
   for (const [i, spec] of [proposal.method, ...(proposal.compare ?? [])].entries()) {
     checkMethod(spec, proposal, i === 0 ? ['method'] : ['compare', i - 1], problems);
@@ -38,8 +54,50 @@ export function validateProposal(body: unknown): Validation {
   checkWeights(proposal, problems, warnings);
   checkResampling(proposal, problems);
 
+  const job = context.job ?? 'validate';
+  const draws = context.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
+  const price = priceRequest(job, requestShape(proposal, methodList(proposal), draws), context);
+  if (price.over) {
+    problems.push(problem([], price.over.message, 'limit'));
+    return { ok: false, problems };
+  }
+  for (const check of costly) check();
+  if (singular.found && problems.length === 0) {
+    // A singular covariance makes every dense solve slower (see work-model.ts): price it again.
+    const again = priceRequest(job, requestShape(proposal, methodList(proposal), draws, true), context);
+    if (again.over) return { ok: false, problems: [problem(['inputs', 'covariance'], `the covariance is singular, which makes each solve costlier: ${again.over.message}`, 'limit')] };
+  }
+
   if (problems.length > 0) return { ok: false, problems };
   return { ok: true, proposal, warnings };
+}
+
+/**
+ * Prices the raw body from its array lengths before the schema walks every number (zod takes
+ * seconds on millions of numbers): a request whose shape is already over a limit is refused in
+ * milliseconds. Only when the body looks like a proposal; anything odd is left to the schema.
+ */
+function preflight(body: unknown, context: ValidationContext): Problem | undefined {
+  if (!isRecord(body) || !Array.isArray(body.assets) || !isRecord(body.inputs) || !isRecord(body.method) || typeof body.method.name !== 'string') return undefined;
+  if (!Array.isArray(body.weights) || (body.compare !== undefined && !Array.isArray(body.compare))) return undefined;
+  if (!body.assets.every((a) => typeof a === 'string')) return undefined;
+  const inputs = body.inputs;
+  const matrixOk = (m: unknown): boolean => Array.isArray(m) && m.every((row) => Array.isArray(row));
+  if ('returns' in inputs ? !matrixOk(inputs.returns) : 'covariance' in inputs ? !matrixOk(inputs.covariance) || !Array.isArray(inputs.mean) : true) return undefined;
+  const constraints = body.constraints;
+  if (constraints !== undefined && (!isRecord(constraints) || (constraints.groups !== undefined && !(Array.isArray(constraints.groups) && constraints.groups.every((g) => isRecord(g) && Array.isArray(g.assets)))))) return undefined;
+  const draws = context.draws ?? (isRecord(body.resampling) && Number.isInteger(body.resampling.draws) ? (body.resampling.draws as number) : DEFAULT_DRAWS);
+  try {
+    const proposal = body as unknown as Proposal;
+    const price = priceRequest(context.job ?? 'validate', requestShape(proposal, methodList(proposal), draws), context);
+    return price.over ? problem([], price.over.message, 'limit') : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
+function isRecord(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 
 function checkLength(v: readonly unknown[], n: number, path: (string | number)[], what: string, out: Problem[]): boolean {
@@ -57,8 +115,11 @@ function checkAssets(p: Proposal, out: Problem[]): void {
   });
 }
 
-/** Checks the inputs; a covariance that needs the opted-in repair gets a warning here and is repaired in prepareProblem. */
-function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefined {
+/**
+ * Checks the inputs; a covariance that needs the opted-in repair gets a warning here and is
+ * repaired in prepareProblem. The PSD tests go to `costly`, run after the request is priced.
+ */
+function checkInputs(p: Proposal, out: Problem[], warnings: Warning[], costly: (() => void)[], singular: { found: boolean }): undefined {
   const n = p.assets.length;
   const inputs = p.inputs;
   const estimation = p.estimation;
@@ -101,21 +162,26 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefine
   if ('covariance' in inputs) {
     if (!checkShape(inputs.covariance, n, n, ['inputs', 'covariance'], 'covariance (N×N)', out)) return undefined;
     if (!checkSymmetric(inputs.covariance, ['inputs', 'covariance'], out)) return undefined;
-    const psd = checkPsd(inputs.covariance);
-    if (psd.psd) return undefined;
-    if (estimation?.repairCovariance) {
-      warnings.push({
-        code: 'covariance-repaired',
-        message: `The covariance was not positive semi-definite (smallest eigenvalue ${psd.smallestEigenvalue?.toExponential(3)}); it was replaced by the nearest PSD matrix (eigenvalues clipped at 0) as requested.`,
-      });
-      return undefined;
-    }
-    out.push(
-      problem(
-        ['inputs', 'covariance'],
-        `covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6)}; fix it, or set estimation.repairCovariance: true to use the nearest PSD matrix`,
-      ),
-    );
+    const covariance = inputs.covariance;
+    costly.push(() => {
+      const psd = checkPsd(covariance);
+      if (!psd.positiveDefinite) singular.found = true;
+      if (psd.psd) return;
+      const smallest = psd.smallestEigenvalue === undefined ? `below −${psd.threshold.toExponential(3)}` : `${psd.smallestEigenvalue.toExponential(6)}`;
+      if (estimation?.repairCovariance) {
+        warnings.push({
+          code: 'covariance-repaired',
+          message: `The covariance was not positive semi-definite (smallest eigenvalue ${smallest}); it was replaced by the nearest PSD matrix (eigenvalues clipped at 0) as requested.`,
+        });
+        return;
+      }
+      out.push(
+        problem(
+          ['inputs', 'covariance'],
+          `covariance must be positive semi-definite: smallest eigenvalue is ${smallest}; fix it, or set estimation.repairCovariance: true to use the nearest PSD matrix`,
+        ),
+      );
+    });
     return undefined;
   }
   const fm = inputs.factorModel;
@@ -128,7 +194,7 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[]): undefine
   });
   if (checkShape(fm.factorCovariance, k, k, ['inputs', 'factorModel', 'factorCovariance'], 'factor covariance (K×K)', out) && checkSymmetric(fm.factorCovariance, ['inputs', 'factorModel', 'factorCovariance'], out)) {
     const psd = checkPsd(fm.factorCovariance);
-    if (!psd.psd) out.push(problem(['inputs', 'factorModel', 'factorCovariance'], `factor covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6)}`));
+    if (!psd.psd) out.push(problem(['inputs', 'factorModel', 'factorCovariance'], `factor covariance must be positive semi-definite: smallest eigenvalue is ${psd.smallestEigenvalue?.toExponential(6) ?? `below −${psd.threshold.toExponential(3)}`}`));
   }
   return undefined;
 }
@@ -196,16 +262,25 @@ function checkConstraints(p: Proposal, out: Problem[], warnings: Warning[]): voi
   if (sumUpper < c.budget - TOLERANCES.budget) out.push(problem(['constraints', 'upper'], `infeasible: upper bounds sum to ${round(sumUpper)}, below the budget ${c.budget}`, 'unsolvable'));
   const index = new Map(p.assets.map((a, i) => [a, i] as const));
   const names = new Set<string>();
+  const memberships = (c.groups ?? []).reduce((total, g) => total + g.assets.length, 0);
+  if (memberships > LIMITS.maxGroupMemberships) {
+    out.push(problem(['constraints', 'groups'], `the groups list ${memberships} members in total, over the limit of ${LIMITS.maxGroupMemberships} (maxGroupMemberships)`, 'limit'));
+    return;
+  }
   (c.groups ?? []).forEach((g, gi) => {
     const path = ['constraints', 'groups', gi];
     if (names.has(g.name)) out.push(problem([...path, 'name'], `group names must be unique: "${g.name}" appears twice`));
     names.add(g.name);
     let gLower = 0;
     let gUpper = 0;
+    const listed = new Map<string, number>();
     g.assets.forEach((a, ai) => {
       const i = index.get(a);
+      const first = listed.get(a);
       if (i === undefined) out.push(problem([...path, 'assets', ai], `unknown asset "${a}" (not in assets)`));
+      else if (first !== undefined) out.push(problem([...path, 'assets', ai], `a group lists each asset once: "${a}" is already at assets[${first}] of this group`));
       else {
+        listed.set(a, ai);
         gLower += lower[i];
         gUpper += upper[i];
       }

@@ -15,6 +15,16 @@ export function cleanArray(a: ArrayLike<number>): number[] {
   return Array.from(a, clean);
 }
 
+/**
+ * A zero-variance portfolio (e.g. a singular covariance's null direction, or only riskless assets)
+ * has no risk to share out: its Euler contributions w_i(Σw)_i / wᵀΣw are 0/0. They are reported as
+ * 0 (no asset contributes risk) and its diversification ratio as 1, with a warning, so that the
+ * report keeps the numbers its schema promises.
+ */
+function zeroRiskFallback(x: number, fallback: number): number {
+  return Number.isFinite(x) ? clean(x) : fallback;
+}
+
 /** The report block for one method's optimum on the base inputs (annualised figures). */
 export function describeOptimum(result: MethodResult, mean: Float64Array, riskModel: RiskModel, periodsPerYear: number): BaseOptimum {
   const w = result.weights;
@@ -25,8 +35,8 @@ export function describeOptimum(result: MethodResult, mean: Float64Array, riskMo
     weights: cleanArray(w),
     expectedReturn: clean(annualiseMean(expected, periodsPerYear)),
     volatility: clean(annualiseVolatility(risk.volatility, periodsPerYear)),
-    riskContributions: cleanArray(risk.contributionShares),
-    diversificationRatio: clean(risk.diversificationRatio),
+    riskContributions: Array.from(risk.contributionShares, (x) => zeroRiskFallback(x, 0)),
+    diversificationRatio: zeroRiskFallback(risk.diversificationRatio, 1),
     effectiveHoldings: clean(risk.effectiveHoldings),
     diagnostics: {
       solver: result.diagnostics.solver,
@@ -36,6 +46,12 @@ export function describeOptimum(result: MethodResult, mean: Float64Array, riskMo
     },
     warnings: [...result.warnings],
   };
+  if (!(risk.volatility > 0)) {
+    out.warnings.push({
+      code: 'zero-variance-portfolio',
+      message: 'This portfolio has zero variance under the inputs (a riskless or perfectly hedged combination), so risk contributions are reported as 0 and the diversification ratio as 1.',
+    });
+  }
   if (risk.factorSplit) {
     out.factorRiskShare = { factor: clean(risk.factorSplit.factorShare), specific: clean(1 - risk.factorSplit.factorShare) };
   }

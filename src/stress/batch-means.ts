@@ -1,51 +1,70 @@
 import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
 
 /**
- * Monte Carlo standard errors of statistics computed from the B resampling draws.
+ * Monte Carlo standard errors of statistics computed from the B resampling draws. The draws are
+ * independent and identically distributed across b (each has its own seeded stream), so every
+ * error below is a pure function of the per-draw slot data at summary time: ranges of draws
+ * computed apart merge into the same errors, bit for bit.
  *
  * - Means (and other averages of per-draw values): sample sd (divisor n − 1) / √n over the n
- *   successful draws — the draws are independent, so this is the textbook standard error.
- * - Quantiles and other non-linear statistics: non-overlapping batch means (Schmeiser 1982,
- *   "Batch size effects in the analysis of simulation output", Operations Research 30(3)). The
- *   draw indices 0..B−1 are cut into m = min(30, ⌊B/10⌋) contiguous batches, batch k holding
- *   draws ⌊kB/m⌋ .. ⌊(k+1)B/m⌋ − 1; the statistic is computed within each batch (successful
- *   draws only) and SE = sd(batch statistics, divisor m − 1) / √m. The estimate itself is always
- *   the full-sample statistic: a statistic computed on a small batch can be biased (e.g. a 5th
- *   percentile of 10 values), so the batches are used only for the spread (common practice).
- *   Because batches are fixed by draw index, the result does not depend on how the draws were
- *   split across loops or processes.
- * - Quantiles with fewer than 10 batches (B < 100): the distribution-free order-statistic
- *   interval instead — ranks nq ∓ z√(nq(1−q)) from the normal approximation to the binomial
- *   (e.g. Conover, Practical Nonparametric Statistics, 3rd ed. 1999, §3.2; from memory), clamped
- *   to the sample, and SE = (x_(upper) − x_(lower)) / (2z) with z = 1.959964. Clamping at the
- *   sample's extremes understates the width for extreme quantiles of very small samples.
- * - Shares confined to [0, 1] with fewer than 2 usable batches: 0.5, the largest standard
- *   deviation any [0, 1]-valued quantity can have (Popoviciu's inequality) — conservative.
- * - Fewer than 2 successful draws: NaN (no error can be estimated; the report shows null).
+ *   successful draws — the textbook standard error.
+ * - Percentiles: the distribution-free order-statistic interval (e.g. Conover, Practical
+ *   Nonparametric Statistics, 3rd ed. 1999, §3.2; from memory). The number of draws below the
+ *   q-quantile is Binomial(n, q), so the quantiles at probabilities q ∓ z·s, s = √(q(1−q)/n),
+ *   bracket it with ≈ 95 % confidence; SE = s·(Q(q + z·s) − Q(q − z·s)) / (2z·s), i.e. half the
+ *   interval over z. That is the Siddiqui (1960) / Bloch & Gastwirth (1968) estimate of the
+ *   sparsity 1/f(Q(q)) times √(q(1−q)/n), the asymptotic sd of a sample quantile (Serfling 1980,
+ *   §2.3.3). Q is the type-7 percentile (quantiles.ts), so ranks are interpolated, not rounded;
+ *   probabilities are clamped to [0, 1] and the divisor shrinks with the clamped width. When the
+ *   draws inside the interval are tied (a point mass) the interval is widened (3, 4, 5, 7 sds):
+ *   the error is exactly 0 only when the draws within ±7 sds of rank are tied, i.e. no plausible
+ *   rerun could move the percentile off the mass.
+ * - A difference of two percentiles of one column (a band width Q(h) − Q(l)):
+ *   Var = SE_l² + SE_h² − 2ρ·SE_l·SE_h with the asymptotic correlation of sample quantiles
+ *   ρ = l(1−h) / √(l(1−l)·h(1−h)) (Serfling 1980, §2.3.3; 0.0526 for the 5th and 95th).
+ * - Differences between two runs on common random numbers (check --baseline): the same formulas
+ *   with the cross-covariance Cov(Q_a(p), Q_b(q)) = (P(X_a ≤ Q_a(p), X_b ≤ Q_b(q)) − pq)·
+ *   SE_a·SE_b / √(p(1−p)q(1−q)), the joint probability counted over the paired draws.
+ * - Standard deviations (max-weight-sd): the delta method, Var(s) ≈ (m₄ − s⁴)/(4s²n), m₄ the
+ *   fourth central moment (no normality assumed); paired: the sd/√n of the difference of the two
+ *   runs' per-draw influence values ((x − x̄)² − s²)/(2s).
+ * - Outside-band share: a bootstrap of the draws — R = 200 replicates, each drawing B draw indices
+ *   with replacement from its own seeded stream (seed, replicate, 'mc-error'); the share is
+ *   recomputed from the resampled draws and SE = sd of the replicates (Efron & Tibshirani 1993,
+ *   An Introduction to the Bootstrap, ch. 6). Paired: the same indices for both runs. Assets whose
+ *   proposed weight lies more than 7 binomial sds of rank away from both band edges cannot change
+ *   side in any replicate and are not recomputed.
+ * - Mean-driven share (a ratio of channel variances, a smooth function of the draws' moments):
+ *   the delete-one-group jackknife over the m = min(30, ⌊B/10⌋) contiguous groups of draws that
+ *   the channel accumulator stores (Efron & Tibshirani 1993, ch. 11), SE² = (m−1)/m·Σ(θ₍ₖ₎ − θ̄)².
+ *   Paired: the jackknife of the difference over the same groups. With fewer than 2 groups
+ *   (B < 20): the bound 0.5, the largest sd of a [0, 1]-valued quantity (Popoviciu's inequality).
+ * - Selection rate: the binomial √(p(1−p)/(n−1)).
+ * - Fewer than 2 successful draws: the error cannot be estimated; the report gives null and a warning.
  */
 export const MONTE_CARLO_ERROR_DESCRIPTION =
-  'Monte Carlo standard errors: for means, the sample standard deviation (divisor n-1) over the n ' +
-  'successful draws divided by sqrt(n). For percentiles and the mean-driven share, non-overlapping ' +
-  'batch means (Schmeiser 1982): draws 0..B-1 are cut by index into m = min(30, floor(B/10)) ' +
-  'contiguous batches, the statistic is recomputed within each batch, and the standard error is the ' +
-  'standard deviation of the batch statistics divided by sqrt(m); the reported value is always the ' +
-  'full-sample statistic. With fewer than 10 batches (B < 100), percentile errors use the ' +
-  'order-statistic interval (ranks nq -/+ 1.96 sqrt(nq(1-q)), half-width / 1.96) and the mean-driven ' +
-  'share error uses batch means if at least 2 batches exist, else the conservative bound 0.5. ' +
-  'Errors that cannot be estimated (fewer than 2 successful draws) are reported as 0, with a warning about too few draws.';
+  'Monte Carlo standard errors; the draws are independent, and every error is a function of the per-draw results only ' +
+  '(ranges of draws computed apart give the same errors). Means: the sample standard deviation (divisor n-1) over the n ' +
+  'successful draws divided by sqrt(n). Percentiles: the order-statistic interval: with s = sqrt(q(1-q)/n), ' +
+  'SE = (Q(q + 1.96 s) - Q(q - 1.96 s)) / (2 * 1.96) (probabilities clamped to [0, 1], the divisor shrunk to match), ' +
+  'widened over ties up to 7 s, and exactly 0 when the draws within q -/+ 7 s are all tied (a point mass). Band widths and differences of percentiles combine those ' +
+  'errors with the asymptotic correlation of sample quantiles (for runs against a baseline on common random numbers, ' +
+  'the correlation counted over the paired draws). Standard deviations: the delta method with the fourth moment. ' +
+  'Outside-band share: a bootstrap of the draws (200 replicates, seeded, draws resampled by index). ' +
+  'Mean-driven share: a delete-one-group jackknife over min(30, floor(B/10)) contiguous groups of draws ' +
+  '(the bound 0.5 below 20 draws). Selection rate: sqrt(p(1-p)/(n-1)). ' +
+  'Errors that cannot be estimated (fewer than 2 successful draws) are reported as null, with a warning.';
 
-/** At most this many batches (the design asks for 20–50 when B allows). */
+/** Storage groups of the channel accumulator: at most this many (jackknife groups). */
 export const MAX_BATCHES = 30;
-/** Smallest batch: fewer than 10 draws per batch makes a batch quantile meaningless. */
+/** Smallest storage group. */
 export const MIN_BATCH_SIZE = 10;
-/** Quantile errors use batch means only with at least this many batches; below, order statistics. */
-export const MIN_BATCHES_FOR_QUANTILES = 10;
 /** Two-sided 95% standard normal point, Φ⁻¹(0.975). */
 export const NORMAL_QUANTILE_975 = 1.959963984540054;
 /** Conservative SE for a quantity confined to [0, 1]: sd ≤ (1 − 0)/2 (Popoviciu's inequality). */
 export const UNIT_INTERVAL_MAX_SD = 0.5;
 
-/** Number of batches for B requested draws: min(30, ⌊B/10⌋) (0 or 1 means "no batch means"). */
+/** Number of storage groups for B requested draws: min(30, ⌊B/10⌋) (0 or 1 means "no groups"). */
 export function batchCount(draws: number): number {
   return Math.min(MAX_BATCHES, Math.floor(draws / MIN_BATCH_SIZE));
 }
@@ -108,35 +127,73 @@ export function stridedMoments(data: ArrayLike<number>, start: number, stride: n
 }
 
 /**
- * Batch-means standard error from per-batch statistics stats[0..m): sd (divisor m' − 1) / √m'
- * over the m' finite entries (a batch with no successful draw gives NaN and is skipped).
- * NaN when m' < 2.
+ * Standard error sd/√m' of per-group statistics stats[0..m) over the m' finite entries (a group
+ * with no successful draw gives NaN and is skipped). NaN when m' < 2.
  */
 export function stdErrOfBatchStatistics(stats: ArrayLike<number>, m: number): number {
-  const moments = stridedMoments(stats, 0, 1, m);
-  return moments.stdErr;
+  return stridedMoments(stats, 0, 1, m).stdErr;
 }
 
 /**
- * Order-statistic standard error of the type-7 q-quantile of an ascending sample of n values:
- * half the width of the distribution-free ~95% interval between order statistics of ranks
- * ⌊nq − z√(nq(1−q))⌋ and ⌈nq + z√(nq(1−q))⌉ (1-based, clamped to 1..n), divided by z.
- * NaN when n < 2.
+ * Delete-one-group jackknife standard error from the leave-one-out statistics loo[0..m)
+ * (non-finite entries skipped): √((m'−1)/m'·Σ(θ₍ₖ₎ − θ̄)²). NaN when m' < 2. Exactly 0 when
+ * every leave-one-out statistic is the same.
+ */
+export function jackknifeStdErr(loo: ArrayLike<number>, m: number): number {
+  const moments = stridedMoments(loo, 0, 1, m);
+  if (moments.count < 2) return Number.NaN;
+  const k = moments.count;
+  // Σ(θ − θ̄)² = (k − 1)·sd².
+  return Math.sqrt(((k - 1) / k) * (k - 1)) * moments.sd;
+}
+
+/**
+ * Order-statistic standard error of the type-7 q-quantile of the first n entries of an
+ * ascending array: with s = √(q(1−q)/n), lo = max(0, q − z·s), hi = min(1, q + z·s),
+ * SE = s·(Q(hi) − Q(lo))/(hi − lo) — the sparsity 1/f estimated from the ≈ 95 % distribution-free
+ * interval, times s (see MONTE_CARLO_ERROR_DESCRIPTION). NaN when n < 2; 0 when the order
+ * statistics inside the interval are tied (and at q = 0 or 1 with ties at the extreme).
  */
 export function orderStatisticStdErr(sorted: ArrayLike<number>, n: number, q: number): number {
   if (n < 2) return Number.NaN;
-  const centre = n * q;
-  const half = NORMAL_QUANTILE_975 * Math.sqrt(n * q * (1 - q));
-  const lowerRank = Math.max(1, Math.floor(centre - half));
-  const upperRank = Math.min(n, Math.ceil(centre + half));
-  return (sorted[upperRank - 1] - sorted[lowerRank - 1]) / (2 * NORMAL_QUANTILE_975);
+  const s = Math.sqrt((q * (1 - q)) / n);
+  if (s === 0) {
+    // q = 0 or 1: the minimum or maximum; its spread is read from the two outermost draws.
+    const gap = q === 0 ? sorted[1] - sorted[0] : sorted[n - 1] - sorted[n - 2];
+    return gap;
+  }
+  // The ≈ 95 % interval first; when the draws inside it are tied (the percentile sits on a point
+  // mass, e.g. a weight at a bound), widen it step by step up to ±7 sds of rank: only a mass that
+  // covers the whole ±7-sd interval cannot move in any plausible rerun and has error exactly 0.
+  // A mass whose edge lies within reach gets the (conservative) spread read from the widened interval.
+  for (const k of INTERVAL_WIDENING) {
+    const lo = Math.max(0, q - k * s);
+    const hi = Math.min(1, q + k * s);
+    const width = quantileSorted(sorted, n, hi) - quantileSorted(sorted, n, lo);
+    if (width > 0) return (s * width) / (hi - lo);
+  }
+  return 0;
+}
+
+/** Half-widths (in sds of rank) of the order-statistic interval: 1.96 first, widened over ties up to 7. */
+const INTERVAL_WIDENING = [NORMAL_QUANTILE_975, 3, 4, 5, 7];
+
+/**
+ * Asymptotic correlation of the sample l- and h-quantiles of one sample (l ≤ h):
+ * l(1−h)/√(l(1−l)h(1−h)) (Serfling 1980, §2.3.3). 0 when either is 0 or 1.
+ */
+export function quantileCorrelation(l: number, h: number): number {
+  const a = Math.min(l, h);
+  const b = Math.max(l, h);
+  const denominator = Math.sqrt(a * (1 - a) * b * (1 - b));
+  return denominator > 0 ? (a * (1 - b)) / denominator : 0;
 }
 
 /** Scratch buffers for the quantile-error routines (allocate once per accumulator summary). */
 export interface QuantileErrorWorkspace {
-  /** Length ≥ draws: sorted copies of a column or a batch. */
+  /** Length ≥ draws: sorted copies of a column. */
   readonly sort: Float64Array;
-  /** Length ≥ MAX_BATCHES: one statistic per batch. */
+  /** Length ≥ MAX_BATCHES: one statistic per group. */
   readonly batch: Float64Array;
 }
 
@@ -145,10 +202,8 @@ export function createQuantileErrorWorkspace(draws: number): QuantileErrorWorksp
 }
 
 /**
- * Monte Carlo standard errors of the type-7 quantiles `probabilities` of the strided column
+ * Order-statistic standard errors of the type-7 quantiles `probabilities` of the strided column
  * data[start + b·stride], b = 0..draws−1 (NaN = failed draw): out[j] for probabilities[j].
- * Batch means when batchCount(draws) ≥ 10, else the order-statistic interval (see
- * MONTE_CARLO_ERROR_DESCRIPTION). Returns 'batch-means' or 'order-statistic'.
  */
 export function quantileStdErrs(
   data: ArrayLike<number>,
@@ -158,30 +213,20 @@ export function quantileStdErrs(
   probabilities: ArrayLike<number>,
   out: Float64Array,
   workspace: QuantileErrorWorkspace,
-): 'batch-means' | 'order-statistic' {
-  const batches = batchCount(draws);
-  if (batches < MIN_BATCHES_FOR_QUANTILES) {
-    const n = gatherFiniteSorted(data, start, stride, draws, workspace.sort);
-    for (let j = 0; j < probabilities.length; j++) out[j] = orderStatisticStdErr(workspace.sort, n, probabilities[j]);
-    return 'order-statistic';
-  }
-  for (let j = 0; j < probabilities.length; j++) {
-    for (let k = 0; k < batches; k++) {
-      const from = batchStart(draws, batches, k);
-      const to = batchStart(draws, batches, k + 1);
-      const n = gatherFiniteSorted(data, start + from * stride, stride, to - from, workspace.sort);
-      workspace.batch[k] = quantileSorted(workspace.sort, n, probabilities[j]);
-    }
-    out[j] = stdErrOfBatchStatistics(workspace.batch, batches);
-  }
-  return 'batch-means';
+): 'order-statistic' {
+  const n = gatherFiniteSorted(data, start, stride, draws, workspace.sort);
+  for (let j = 0; j < probabilities.length; j++) out[j] = orderStatisticStdErr(workspace.sort, n, probabilities[j]);
+  return 'order-statistic';
+}
+
+/** √(a² + b² − 2ρab), never below 0 (rounding). */
+export function combineCorrelated(a: number, b: number, rho: number): number {
+  return Math.sqrt(Math.max(0, a * a + b * b - 2 * rho * a * b));
 }
 
 /**
- * Monte Carlo standard error of a band width Q(high) − Q(low) of the same strided column: batch
- * means of the per-batch width when batchCount(draws) ≥ 10; otherwise √(SE_low² + SE_high²)
- * from the order-statistic errors, which ignores the positive correlation of the two order
- * statistics and so overstates the error (conservative).
+ * Standard error of a band width Q(high) − Q(low) of the same strided column: the two
+ * order-statistic errors combined with the asymptotic correlation of sample quantiles.
  */
 export function quantileWidthStdErr(
   data: ArrayLike<number>,
@@ -192,18 +237,30 @@ export function quantileWidthStdErr(
   high: number,
   workspace: QuantileErrorWorkspace,
 ): number {
-  const batches = batchCount(draws);
-  if (batches < MIN_BATCHES_FOR_QUANTILES) {
-    const n = gatherFiniteSorted(data, start, stride, draws, workspace.sort);
-    const lowErr = orderStatisticStdErr(workspace.sort, n, low);
-    const highErr = orderStatisticStdErr(workspace.sort, n, high);
-    return Math.sqrt(lowErr * lowErr + highErr * highErr);
+  const n = gatherFiniteSorted(data, start, stride, draws, workspace.sort);
+  const lowErr = orderStatisticStdErr(workspace.sort, n, low);
+  const highErr = orderStatisticStdErr(workspace.sort, n, high);
+  return combineCorrelated(lowErr, highErr, quantileCorrelation(low, high));
+}
+
+/**
+ * Standard error of a sample sd by the delta method: Var(s) ≈ (m₄ − s⁴)/(4s²n), m₄ the fourth
+ * central moment (e.g. Kendall & Stuart, Advanced Theory of Statistics, vol. 1, §10.8; from
+ * memory). NaN when n < 2; 0 when the sample is constant.
+ */
+export function sdStdErrOfStrided(data: ArrayLike<number>, start: number, stride: number, count: number): number {
+  const moments = stridedMoments(data, start, stride, count);
+  if (moments.count < 2) return Number.NaN;
+  if (moments.sd === 0) return 0;
+  let fourth = 0;
+  for (let k = 0, at = start; k < count; k++, at += stride) {
+    const value = data[at];
+    if (Number.isFinite(value)) {
+      const d = value - moments.mean;
+      fourth += d * d * d * d;
+    }
   }
-  for (let k = 0; k < batches; k++) {
-    const from = batchStart(draws, batches, k);
-    const to = batchStart(draws, batches, k + 1);
-    const n = gatherFiniteSorted(data, start + from * stride, stride, to - from, workspace.sort);
-    workspace.batch[k] = quantileSorted(workspace.sort, n, high) - quantileSorted(workspace.sort, n, low);
-  }
-  return stdErrOfBatchStatistics(workspace.batch, batches);
+  fourth /= moments.count;
+  const variance = moments.sd * moments.sd;
+  return Math.sqrt(Math.max(0, fourth - variance * variance) / (4 * variance * moments.count));
 }

@@ -1,4 +1,4 @@
-import { batchCount, batchOfDraw, stdErrOfBatchStatistics, UNIT_INTERVAL_MAX_SD } from './batch-means.js';
+import { batchCount, batchOfDraw, jackknifeStdErr, UNIT_INTERVAL_MAX_SD } from './batch-means.js';
 import { checkAssetCount, checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_RECORDED, DRAW_SUCCEEDED, mergeDrawStatus } from './scalar-accumulator.js';
 
 /**
@@ -22,9 +22,10 @@ import { checkAssetCount, checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_
  * pairwise (Chan, Golub & LeVeque) combination is needed. A channel whose min equals its max has
  * variance exactly 0, so methods that ignore the means report a share of exactly 0.
  *
- * Monte Carlo error of `overall`: batch means of the ratio computed within each batch (batches
- * by draw index, see batch-means.ts); 0.5 (the largest sd of a [0, 1] quantity) with fewer than
- * 2 usable batches.
+ * Monte Carlo error of `overall`: the delete-one-group jackknife over the stored groups (groups
+ * by draw index, see batch-means.ts): `overall` recomputed from the exact sums of all groups but
+ * one, for each group in turn; 0.5 (the largest sd of a [0, 1] quantity) with fewer than
+ * 2 usable groups.
  */
 
 export type VarianceChannel = 'mean-only' | 'covariance-only';
@@ -39,8 +40,8 @@ export interface MeanDrivenShareSummary {
   /** Σ_i Var_mean,i / Σ_i (Var_mean,i + Var_cov,i), 0 when the denominator is 0. */
   readonly overall: number;
   readonly overallStdErr: number;
-  readonly overallErrorMethod: 'batch-means' | 'bound';
-  /** Batches with ≥ 2 successful draws in both channels (used for the error). */
+  readonly overallErrorMethod: 'jackknife' | 'bound';
+  /** Groups whose leave-one-out share could be computed (used for the error). */
   readonly usableBatches: number;
   readonly perAsset: Float64Array;
   readonly meanChannelVariance: Float64Array;
@@ -199,44 +200,16 @@ export class ChannelVarianceAccumulator {
     }
     const overall = denominator > 0 ? numerator / denominator : 0;
 
-    // Batch means of the within-batch ratio.
-    const batchShares = new Float64Array(m);
+    const looShares = this.leaveOneGroupOutShares();
     let usableBatches = 0;
-    for (let k = 0; k < m; k++) {
-      const meanCount = this.counts[k];
-      const covarianceCount = this.counts[m + k];
-      if (meanCount < 2 || covarianceCount < 2) {
-        batchShares[k] = Number.NaN;
-        continue;
-      }
-      let batchNumerator = 0;
-      let batchDenominator = 0;
-      for (let i = 0; i < n; i++) {
-        const meanCell = k * n + i;
-        const covarianceCell = (m + k) * n + i;
-        const vm = varianceFromPieces(meanCount, this.sumPieces, meanCell * LEVELS, this.squarePieces, meanCell * LEVELS, this.minimum[meanCell], this.maximum[meanCell]);
-        const vc = varianceFromPieces(
-          covarianceCount,
-          this.sumPieces,
-          covarianceCell * LEVELS,
-          this.squarePieces,
-          covarianceCell * LEVELS,
-          this.minimum[covarianceCell],
-          this.maximum[covarianceCell],
-        );
-        batchNumerator += vm;
-        batchDenominator += vm + vc;
-      }
-      batchShares[k] = batchDenominator > 0 ? batchNumerator / batchDenominator : 0;
-      usableBatches++;
-    }
+    for (let k = 0; k < m; k++) if (Number.isFinite(looShares[k])) usableBatches++;
     const useBatches = usableBatches >= 2;
     const meanCounts = this.channelCounts(0);
     const covarianceCounts = this.channelCounts(1);
     return {
       overall,
-      overallStdErr: useBatches ? stdErrOfBatchStatistics(batchShares, m) : UNIT_INTERVAL_MAX_SD,
-      overallErrorMethod: useBatches ? 'batch-means' : 'bound',
+      overallStdErr: useBatches ? jackknifeStdErr(looShares, m) : UNIT_INTERVAL_MAX_SD,
+      overallErrorMethod: useBatches ? 'jackknife' : 'bound',
       usableBatches,
       perAsset,
       meanChannelVariance,
@@ -246,6 +219,67 @@ export class ChannelVarianceAccumulator {
       meanChannelFailures: meanCounts.failed,
       covarianceChannelFailures: covarianceCounts.failed,
     };
+  }
+
+  /**
+   * The overall mean-driven share with group k left out, for k = 0..m−1 (NaN when fewer than 2
+   * draws of either channel remain, or with a single group). Leave-one-out sums are the exact
+   * totals minus group k's exact pieces (both multiples of each grid), so they are exact too.
+   */
+  leaveOneGroupOutShares(): Float64Array {
+    const n = this.assets;
+    const m = this.batches;
+    const out = new Float64Array(m).fill(Number.NaN);
+    if (m < 2) return out;
+    const totalSum = new Float64Array(2 * n * LEVELS);
+    const totalSquare = new Float64Array(2 * n * LEVELS);
+    const totalCount = [0, 0];
+    for (let c = 0; c < 2; c++) {
+      for (let k = 0; k < m; k++) {
+        totalCount[c] += this.counts[c * m + k];
+        for (let i = 0; i < n; i++) {
+          const cell = (c * m + k) * n + i;
+          for (let level = 0; level < LEVELS; level++) {
+            totalSum[(c * n + i) * LEVELS + level] += this.sumPieces[cell * LEVELS + level];
+            totalSquare[(c * n + i) * LEVELS + level] += this.squarePieces[cell * LEVELS + level];
+          }
+        }
+      }
+    }
+    const sum = new Float64Array(LEVELS);
+    const square = new Float64Array(LEVELS);
+    for (let k = 0; k < m; k++) {
+      const counts = [totalCount[0] - this.counts[k], totalCount[1] - this.counts[m + k]];
+      if (counts[0] < 2 || counts[1] < 2) continue;
+      let numerator = 0;
+      let denominator = 0;
+      for (let i = 0; i < n; i++) {
+        let meanVariance = 0;
+        for (let c = 0; c < 2; c++) {
+          const cell = (c * m + k) * n + i;
+          for (let level = 0; level < LEVELS; level++) {
+            sum[level] = totalSum[(c * n + i) * LEVELS + level] - this.sumPieces[cell * LEVELS + level];
+            square[level] = totalSquare[(c * n + i) * LEVELS + level] - this.squarePieces[cell * LEVELS + level];
+          }
+          let low = Number.POSITIVE_INFINITY;
+          let high = Number.NEGATIVE_INFINITY;
+          for (let j = 0; j < m; j++) {
+            if (j === k) continue;
+            const other = (c * m + j) * n + i;
+            if (this.minimum[other] < low) low = this.minimum[other];
+            if (this.maximum[other] > high) high = this.maximum[other];
+          }
+          const variance = varianceFromPieces(counts[c], sum, 0, square, 0, low, high);
+          if (c === 0) meanVariance = variance;
+          else {
+            numerator += meanVariance;
+            denominator += meanVariance + variance;
+          }
+        }
+      }
+      out[k] = denominator > 0 ? numerator / denominator : 0;
+    }
+    return out;
   }
 
   private channelCounts(c: number): { succeeded: number; failed: number } {

@@ -17,7 +17,7 @@ import {
 } from '../resample/parametric.js';
 import { createDrawStream, STREAM_PURPOSE, type Seed } from '../resample/streams.js';
 import { LIMITS } from '../schema/limits.js';
-import type { MethodSpec, Proposal } from '../schema/proposal.js';
+import type { Proposal } from '../schema/proposal.js';
 import type { Warning } from '../schema/validate.js';
 import { ChannelVarianceAccumulator } from './channel-variance.js';
 import { estimateFromHistory } from './estimate-inputs.js';
@@ -27,7 +27,10 @@ import { methodList, prepareProblem, type PreparedProblem } from './problem.js';
 import { ScalarAccumulator } from './scalar-accumulator.js';
 import { difference, expectedShortfall, shiftedRows } from './scenarios.js';
 import { WeightAccumulator } from './weight-accumulator.js';
-import { estimateWork, type WorkShape } from './work-estimate.js';
+import { effectiveMaxWork, priceRequest, type CostOptions } from '../cost/check.js';
+import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
+import { degenerateInputWarnings } from './degenerate-inputs.js';
+import { methodKey } from './method-key.js';
 
 /** A request over a service limit (HTTP 413). */
 export class LimitError extends Error {
@@ -69,7 +72,7 @@ export interface StressPlan {
   /** Base scenario rows (history moved to the base mean), for scenario Kelly. */
   readonly baseScenarios?: Float64Array;
   readonly workUnits: number;
-  /** The work limit in force for this request (the built-in one, or lower on a deployment). */
+  /** The work budget in force for this request (the deployment may lower the built-in one). */
   readonly maxWorkUnits: number;
   readonly warnings: Warning[];
 }
@@ -96,84 +99,38 @@ export interface StressAccumulators {
   readonly inputFailures: Map<string, number>;
 }
 
-/** The shape of a request's work, read from the proposal before anything is computed. */
-function workShape(proposal: Proposal, scheme: Scheme, methods: readonly MethodSpec[]): WorkShape {
-  const inputs = proposal.inputs;
-  const n = proposal.assets.length;
-  const history = 'returns' in inputs;
-  const estimated = proposal.estimation?.factorModel ?? 'none';
-  let factors = 0;
-  if ('factorModel' in inputs) factors = inputs.factorModel.factors.length;
-  else if (history && estimated === 'regression') factors = inputs.factors?.names.length ?? 0;
-  else if (history && estimated === 'pca') factors = proposal.estimation?.pcaFactors ?? 1;
-  return {
-    n,
-    rows: history ? inputs.returns.length : 0,
-    factors,
-    pca: estimated === 'pca',
-    scenarioKelly: history && scheme !== 'parametric' && methods.some((m) => m.name === 'kelly'),
-  };
-}
-
 /**
- * Limits a deployment may lower below LIMITS (never raise): a service on a plan with a small CPU
- * allowance sets a smaller work budget so it refuses with 413 instead of being killed mid-request.
+ * Prices the request (src/cost) before any estimation or solve, so an oversized request is
+ * refused at once (413) instead of running out of CPU or memory mid-way. Returns the estimated
+ * work. `baseline`: the other proposal of a check, run with the same draws.
  */
-export interface WorkLimits {
-  readonly maxWorkUnits?: number;
-  /**
-   * CPU allowances the draws are split over (shards, src/scale), each held to the work budget, so
-   * the whole request may do this many times the work (default 1). Never lowers the budget.
-   */
-  readonly workShares?: number;
-}
+/** Limits a deployment may lower (maxWork) and the CPU allowances a sharded request spreads over (workShares). */
+export type WorkLimits = CostOptions;
 
-/** The work budget in force: the smaller of the built-in limit and the deployment's. */
-export function effectiveMaxWorkUnits(limits: WorkLimits = {}): number {
-  const lowered = limits.maxWorkUnits;
-  return lowered !== undefined && Number.isFinite(lowered) && lowered > 0 ? Math.min(lowered, LIMITS.maxWorkUnits) : LIMITS.maxWorkUnits;
-}
-
-/**
- * Checks the request against the count limits before any estimation or solve, so an oversized
- * request is refused at once (413) instead of running out of CPU or memory mid-way. Returns the
- * estimated work. (Optimize checks one draw: it counts the base solves, in every channel, which
- * over-counts a little.)
- */
-export function checkLimits(proposal: Proposal, draws: number, scheme: Scheme, methods: readonly MethodSpec[], limits: WorkLimits = {}): number {
+export function checkLimits(job: Job, proposal: Proposal, draws: number, options: CostOptions & { baseline?: Proposal } = {}): number {
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
-  const shape = workShape(proposal, scheme, methods);
-  const workUnits = estimateWork(methods, draws, shape);
-  const maxWorkUnits = effectiveMaxWorkUnits(limits) * Math.max(1, limits.workShares ?? 1);
-  if (workUnits > maxWorkUnits) {
-    throw new LimitError(
-      'maxWorkUnits',
-      maxWorkUnits,
-      `this request needs about ${workUnits.toExponential(2)} operations, over the work limit of ${maxWorkUnits.toExponential(1)} (maxWorkUnits${maxWorkUnits < LIMITS.maxWorkUnits ? ', lowered on this deployment' : ''}); use fewer draws (at most about ${Math.max(1, Math.floor((draws * maxWorkUnits) / workUnits))}), fewer methods in compare, or a factor model`,
-    );
-  }
-  const stored = (methods.length + 1) * draws * shape.n;
-  if (stored > LIMITS.maxStoredValues) {
-    throw new LimitError(
-      'maxStoredValues',
-      LIMITS.maxStoredValues,
-      `this request would keep ${stored} numbers in memory (draws × assets × (methods + 1)), over the limit of ${LIMITS.maxStoredValues} (maxStoredValues); use at most ${Math.floor(LIMITS.maxStoredValues / ((methods.length + 1) * shape.n))} draws`,
-    );
-  }
-  return workUnits;
+  const shape = requestShape(proposal, methodList(proposal), draws);
+  const baseline = options.baseline ? requestShape(options.baseline, methodList(options.baseline), draws) : undefined;
+  const verdict = priceRequest(job, shape, { maxWork: options.maxWork, workShares: options.workShares, baseline });
+  if (verdict.over) throw new LimitError(verdict.over.limit, verdict.over.value, verdict.over.message);
+  return verdict.work;
 }
 
-export function planStress(proposal: Proposal, warnings: Warning[], overrides: { draws?: number; seed?: Seed; limits?: WorkLimits } = {}): StressPlan {
-  const draws = overrides.draws ?? proposal.resampling?.draws ?? 500;
+export function planStress(
+  proposal: Proposal,
+  warnings: Warning[],
+  overrides: { draws?: number; seed?: Seed; maxWork?: number; workShares?: number } = {},
+): StressPlan {
+  const draws = overrides.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, draws, scheme, methodList(proposal), overrides.limits);
+  const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork, workShares: overrides.workShares });
 
-  const problem = prepareProblem(proposal, warnings);
-  const history = problem.history;
-  const planWarnings = [...problem.warnings];
+  const prepared = prepareProblem(proposal, warnings);
+  const history = prepared.history;
+  const planWarnings = [...prepared.warnings];
   let meanBlockLength: number | null = null;
   if (history && scheme === 'stationary-bootstrap') {
     const requested = proposal.resampling?.meanBlockLength ?? 'auto';
@@ -184,7 +141,7 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
   }
   const scenarioKelly = history !== undefined && scheme !== 'parametric';
 
-  const { solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(problem, scenarioKelly);
+  const { problem, solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(prepared, scenarioKelly);
   planWarnings.push(...baseWarnings);
 
   const reference = solveReferenceMeanVariance(problem, problem.methods, base);
@@ -205,7 +162,7 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
     parametric,
     baseScenarios,
     workUnits,
-    maxWorkUnits: effectiveMaxWorkUnits(overrides.limits),
+    maxWorkUnits: effectiveMaxWork({ maxWork: overrides.maxWork }),
     warnings: planWarnings,
   };
 }
@@ -214,7 +171,7 @@ export function planStress(proposal: Proposal, warnings: Warning[], overrides: {
 export function solveBaseOptima(
   problem: PreparedProblem,
   scenarioKelly: boolean,
-): { solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[] } {
+): { problem: PreparedProblem; solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[] } {
   const n = problem.n;
   const history = problem.history;
   const solvers = problem.methods.map((spec) => createMethodSolver(spec, problem, { scenarioKelly }));
@@ -229,9 +186,27 @@ export function solveBaseOptima(
     shiftedRows(history.assets.values, n, rows, undefined, difference(problem.mean, historyMean, new Float64Array(n)), baseScenarios);
   }
   const inputs: SolveInputs = { mean: problem.mean, riskModel: problem.riskModel, scenarios: baseScenarios, scenarioCount: rows };
-  const base = solvers.map((s) => s.solve(inputs));
-  const warnings: Warning[] = [];
-  problem.methods.forEach((spec) => {
+  const warnings: Warning[] = degenerateInputWarnings(problem);
+  // Every base optimum is judged by its own diagnostics. The proposal's own method must have an
+  // answer (else the request is refused: 422 naming the cause); a compared method without one is
+  // left out of the report with a warning saying why, so it never shows made-up figures.
+  const kept: number[] = [];
+  const base: MethodResult[] = [];
+  problem.methods.forEach((spec, k) => {
+    try {
+      const result = solvers[k].solve(inputs);
+      const failed = solveFailure(result);
+      if (failed) throw new OptimizationError('not-converged', `${methodKey(spec)} on the base inputs: ${failed}`);
+      base.push(result);
+      kept.push(k);
+    } catch (e) {
+      if (k === 0 || !(e instanceof OptimizationError)) throw e;
+      warnings.push({ code: 'method-excluded', message: `${methodKey(spec)} was left out of the comparison: ${e.code}: ${e.message}` });
+    }
+  });
+  const methods = kept.map((k) => problem.methods[k]);
+  const keptProblem: PreparedProblem = kept.length === problem.methods.length ? problem : { ...problem, methods };
+  methods.forEach((spec) => {
     if (spec.name === 'kelly' && !scenarioKelly) {
       warnings.push({
         code: 'kelly-quadratic-approximation',
@@ -240,7 +215,7 @@ export function solveBaseOptima(
     }
   });
   // Each method's own warnings stay with its optimum (methods[i].base.warnings), not repeated here.
-  return { solvers, base, baseScenarios, warnings };
+  return { problem: keptProblem, solvers: kept.map((k) => solvers[k]), base, baseScenarios, warnings };
 }
 
 /**
@@ -394,10 +369,26 @@ function drawInputs(plan: StressPlan, b: number, buf: DrawBuffers): DrawInputs {
 }
 
 function failureReason(e: unknown): string {
-  if (e instanceof OptimizationError) return `${e.code}: ${e.message}`.slice(0, 200);
+  if (e instanceof OptimizationError) {
+    const text = e.label ?? e.message;
+    return (text.startsWith(`${e.code}:`) ? text : `${e.code}: ${text}`).slice(0, 200);
+  }
   if (e instanceof EstimationError) return `estimation: ${e.message}`.slice(0, 200);
   if (e instanceof RangeError) return `numerical: ${e.message}`.slice(0, 200);
   throw e;
+}
+
+/**
+ * A solve's own verdict on itself: undefined when it is an answer, else the failure reason
+ * (a short, countable label). Every per-draw solve is judged this way — unconverged, a residual
+ * above the method's accepted tolerance (`converged` is false then), or non-finite weights.
+ */
+export function solveFailure(result: MethodResult): string | undefined {
+  const w = result.weights;
+  for (let i = 0; i < w.length; i++) if (!Number.isFinite(w[i])) return 'numerical: non-finite weights';
+  if (!Number.isFinite(result.diagnostics.kktResidual)) return 'not-converged: non-finite KKT residual';
+  if (!result.diagnostics.converged) return `not-converged: ${result.diagnostics.solver} stopped above its accepted KKT residual`;
+  return undefined;
 }
 
 function turnover(a: Float64Array, b: Float64Array): number {
@@ -452,6 +443,8 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
       let joint: MethodResult;
       try {
         joint = solver.solve(inputs.joint, base.warmStart);
+        const failed = solveFailure(joint);
+        if (failed) throw new OptimizationError('not-converged', failed);
       } catch (e) {
         bump(m.failures, failureReason(e));
         m.weights.recordFailure(b);
@@ -478,7 +471,10 @@ export function runDraws(plan: StressPlan, start: number, end: number, acc: Stre
         ['covariance-only', inputs.covOnly],
       ] as const) {
         try {
-          m.channels.record(b, channel, solver.solve(channelInputs, base.warmStart).weights);
+          const result = solver.solve(channelInputs, base.warmStart);
+          const failed = solveFailure(result);
+          if (failed) throw new OptimizationError('not-converged', failed);
+          m.channels.record(b, channel, result.weights);
         } catch (e) {
           bump(m.failures, `${channel} channel: ${failureReason(e)}`);
           m.channels.recordFailure(b, channel);

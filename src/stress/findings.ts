@@ -73,7 +73,10 @@ export function findingsFor(assets: readonly string[], proposalWeights: readonly
   const simpler = methods.filter((m) => MEAN_FREE_METHODS.has(m.method.name) && Number.isFinite(m.certaintyEquivalentLoss.mean));
   if (own && !MEAN_FREE_METHODS.has(own.method.name) && simpler.length > 0) {
     const best = simpler.reduce((a, b) => (b.certaintyEquivalentLoss.mean < a.certaintyEquivalentLoss.mean ? b : a));
-    const se = Math.hypot(best.certaintyEquivalentLoss.stdErr, own.certaintyEquivalentLoss.stdErr);
+    const bestErr = best.certaintyEquivalentLoss.stdErr;
+    const ownErr = own.certaintyEquivalentLoss.stdErr;
+    // A finding needs both errors: without them the difference cannot be told from noise.
+    const se = bestErr === null || ownErr === null ? Number.NaN : Math.hypot(bestErr, ownErr);
     if (own.certaintyEquivalentLoss.mean - best.certaintyEquivalentLoss.mean > 2 * se) {
       out.push({
         code: 'simpler-method-loses-less',

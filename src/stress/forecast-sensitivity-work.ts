@@ -1,6 +1,7 @@
 import { KELLY_SOLVES_PER_ASSET } from '../optimize/forecast-sensitivity-kelly.js';
 import type { MethodSpec } from '../schema/proposal.js';
-import { solveOps, usesMean, type WorkShape } from './work-estimate.js';
+import type { RequestShape } from '../cost/request-shape.js';
+import { solveUnits, usesMean } from '../cost/work-model.js';
 
 /**
  * Work of the break-even forecast table (src/stress/forecast-sensitivity.ts), in the units of the
@@ -19,12 +20,12 @@ import { solveOps, usesMean, type WorkShape } from './work-estimate.js';
  */
 export const PATH_SEGMENTS = 4;
 
-export function forecastSensitivityOps(methods: readonly MethodSpec[], s: WorkShape): number {
+export function forecastSensitivityOps(methods: readonly MethodSpec[], s: RequestShape): number {
   const n = s.n;
   let total = 0;
   for (const m of methods) {
     if (!usesMean(m)) continue;
-    const solve = solveOps(m, s);
+    const solve = solveUnits(m, s);
     if (m.name === 'kelly' && s.scenarioKelly) {
       total += n * KELLY_SOLVES_PER_ASSET * solve;
       continue;

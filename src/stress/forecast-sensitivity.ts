@@ -13,7 +13,8 @@ import type { Warning } from '../schema/validate.js';
 import { clean } from './base-optimum.js';
 import { forecastSensitivityOps } from './forecast-sensitivity-work.js';
 import { riskAversionOf, type PreparedProblem } from './problem.js';
-import { usesMean, type WorkShape } from './work-estimate.js';
+import type { RequestShape } from '../cost/request-shape.js';
+import { usesMean } from '../cost/work-model.js';
 
 /**
  * methods[k].forecastSensitivity: for every method that uses the means, per asset, how far its
@@ -52,12 +53,25 @@ export function forecastStdErrs(problem: PreparedProblem): Float64Array {
   return Float64Array.from(variances, (v) => (p * Math.sqrt(Math.max(0, v))) / Math.sqrt(t));
 }
 
-function workShapeOf(problem: PreparedProblem, scenarioCount: number): WorkShape {
+/** The solve-relevant shape of the prepared problem, in the terms of the request cost model (src/cost). */
+function workShapeOf(problem: PreparedProblem, scenarioCount: number): RequestShape {
+  const factors = problem.riskModel.kind === 'factor' ? problem.riskModel.k : 0;
   return {
     n: problem.n,
     rows: problem.history?.assets.periods ?? 0,
-    factors: problem.riskModel.kind === 'factor' ? problem.riskModel.k : 0,
-    pca: false,
+    factors,
+    inputKind: factors > 0 ? 'factor-moments' : problem.history ? 'history' : 'dense-moments',
+    covarianceEstimator: 'sample',
+    factorModel: 'none',
+    repair: false,
+    groups: problem.constraints.groups.length,
+    groupMemberships: problem.constraints.groups.reduce((total, g) => total + g.members.length, 0),
+    inputNumbers: 0,
+    assetIdChars: 0,
+    methods: problem.methods,
+    draws: 1,
+    scheme: 'parametric',
+    singular: false,
     scenarioKelly: scenarioCount > 0,
   };
 }

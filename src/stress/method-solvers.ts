@@ -9,7 +9,7 @@ import type { MethodResult } from '../optimize/types.js';
 import type { MethodSpec } from '../schema/proposal.js';
 import type { MethodSolver, SolveInputs } from './method-interface.js';
 import { riskAversionOf, type PreparedProblem } from './problem.js';
-import { usesMean } from './work-estimate.js';
+import { usesMean } from '../cost/work-model.js';
 
 export interface SolverContext {
   /** Kelly over scenario rows (bootstrap of a history); otherwise its quadratic approximation. */
@@ -52,7 +52,7 @@ export function createMethodSolver(spec: MethodSpec, problem: PreparedProblem, c
         usesMean: true,
         solve: (x, warmStart) => {
           if (!x.scenarios || !x.scenarioCount) throw new Error('scenario Kelly needs scenario rows');
-          return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace, kellyWorkspace });
+          return kelly(x.scenarios, x.scenarioCount, constraints, { fraction, warmStart, workspace, kellyWorkspace, assetNames });
         },
       };
     }

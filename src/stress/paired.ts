@@ -1,8 +1,9 @@
-import type { MethodName, PolicyRule } from '../schema/proposal.js';
-import { batchCount, batchStart, stridedMoments } from './batch-means.js';
+import type { MethodSpec, PolicyRule } from '../schema/proposal.js';
+import { jackknifeStdErr, orderStatisticStdErr, quantileCorrelation, stridedMoments } from './batch-means.js';
+import { canonicalJson } from './digest.js';
 import type { StressAccumulators, StressPlan } from './engine.js';
-import { quantileSorted } from './quantiles.js';
-import { BAND_EDGE_TOLERANCE, outsideBandShareOver } from './stability.js';
+import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
+import { BAND_EDGE_TOLERANCE, outsideBandShareReplicates } from './stability.js';
 
 /** A finished stress run with its per-draw data, for paired comparisons. */
 export interface StressRun {
@@ -11,80 +12,214 @@ export interface StressRun {
 }
 
 /**
- * A gate metric recomputed inside each contiguous batch of draws (the batches of the batch-means
- * errors). Undefined for metrics without a per-batch form here (mean-driven share, and the exact
- * forecast break-even, whose error is 0).
+ * Index of a method in a list of specs by its full spec (name and every parameter: Kelly f = 1
+ * and f = ½ are different methods), or −1.
  */
-export function metricByBatch(run: StressRun, metric: PolicyRule['metric'], method: MethodName): Float64Array | undefined {
-  const { plan, acc } = run;
-  const k = plan.problem.methods.findIndex((m) => m.name === method);
-  if (k < 0) return undefined;
-  const draws = plan.draws;
-  const m = batchCount(draws);
-  if (m < 2) return undefined;
-  const n = plan.problem.n;
+export function methodIndexBySpec(specs: readonly MethodSpec[], spec: MethodSpec): number {
+  const key = canonicalJson(spec);
+  return specs.findIndex((m) => canonicalJson(m) === key);
+}
+
+/**
+ * The baseline's counterpart of the candidate's method `spec` (at index `candidateIndex` of the
+ * candidate's methods): the same full spec when the baseline has it; otherwise, when `spec` is the
+ * candidate's own proposal method (index 0), the baseline's proposal method if it has the same
+ * name (a model change such as a new risk aversion is compared with the method it replaces);
+ * otherwise the only baseline method of that name. −1 when none, or when several specs share the
+ * name and none matches exactly (ambiguous: never guess between Kelly f = 1 and f = ½).
+ */
+export function counterpartIndex(baseline: readonly MethodSpec[], spec: MethodSpec, candidateIndex: number): number {
+  const exact = methodIndexBySpec(baseline, spec);
+  if (exact >= 0) return exact;
+  if (candidateIndex === 0 && baseline.length > 0 && baseline[0].name === spec.name) return 0;
+  const sameName = baseline.flatMap((m, k) => (m.name === spec.name ? [k] : []));
+  return sameName.length === 1 ? sameName[0] : -1;
+}
+
+/** One percentile of one run's per-draw column, with a coefficient, in a linear combination. */
+interface QuantileTerm {
+  readonly slots: Float64Array;
+  readonly probability: number;
+  readonly coefficient: number;
+}
+
+/**
+ * Standard error of Σ_t c_t·Q_t(p_t), percentiles of columns that may belong to two runs on
+ * common random numbers. Var(Q_t) is the order-statistic SE²; Cov(Q_t, Q_u) is SE_t·SE_u times
+ * the asymptotic quantile correlation for the same column, and for different columns
+ * (P(X_t ≤ Q_t, X_u ≤ Q_u) − p_t·p_u)/√(p_t(1−p_t)p_u(1−p_u)) with the joint probability counted
+ * over the draws where both succeeded (Serfling 1980, §2.3.3: the joint asymptotics of sample
+ * quantiles). NaN when a column has fewer than 2 successful draws.
+ */
+export function quantileCombinationStdErr(input: readonly QuantileTerm[]): number {
+  const draws = input[0].slots.length;
+  // Terms on identical columns at the same probability are one term: their coefficients add
+  // (a figure that no change touches cancels exactly instead of leaving a rounding residue).
+  const terms: QuantileTerm[] = [];
+  for (const t of input) {
+    const same = terms.findIndex((u) => u.probability === t.probability && sameValues(u.slots, t.slots));
+    if (same >= 0) terms[same] = { ...terms[same], coefficient: terms[same].coefficient + t.coefficient };
+    else terms.push(t);
+  }
+  for (let k = terms.length - 1; k >= 0; k--) if (terms[k].coefficient === 0) terms.splice(k, 1);
+  if (terms.length === 0) return 0;
   const scratch = new Float64Array(draws);
-  const finiteSorted = (values: Float64Array, from: number, to: number): Float64Array => {
-    let count = 0;
-    for (let b = from; b < to; b++) if (Number.isFinite(values[b])) scratch[count++] = values[b];
-    return scratch.subarray(0, count).sort();
-  };
-  const statistic = (from: number, to: number): number => {
-    switch (metric) {
-      case 'turnover-from-proposal.p50': {
-        const sorted = finiteSorted(acc.methods[k].turnoverFromProposal.slots(), from, to);
-        return quantileSorted(sorted, sorted.length, 0.5);
-      }
-      case 'turnover-from-proposal.mean': {
-        const sorted = finiteSorted(acc.methods[k].turnoverFromProposal.slots(), from, to);
-        return stridedMoments(sorted, 0, 1, sorted.length).mean;
-      }
-      case 'volatility-band-width': {
-        const sorted = finiteSorted(acc.proposalVolatility.slots(), from, to);
-        return quantileSorted(sorted, sorted.length, 0.95) - quantileSorted(sorted, sorted.length, 0.05);
-      }
-      case 'outside-band-share':
-        return outsideBandShareOver(acc.methods[k].weights.rows(), n, plan.problem.proposalWeights, BAND_EDGE_TOLERANCE, from, to, scratch);
-      case 'max-weight-sd': {
-        const rows = acc.methods[k].weights.rows();
-        let max = 0;
-        for (let i = 0; i < n; i++) {
-          let count = 0;
-          for (let b = from; b < to; b++) if (Number.isFinite(rows[b * n + i])) scratch[count++] = rows[b * n + i];
-          if (count >= 2) max = Math.max(max, stridedMoments(scratch, 0, 1, count).sd);
-        }
-        return max;
-      }
-      case 'mean-driven-share':
-      case 'forecast-break-even-std-errs':
-        return Number.NaN;
+  // Columns with identical values in every slot are one column (e.g. the proposal's volatility,
+  // which no method change touches): their difference is exactly 0, not a rounding residue.
+  const column = terms.map((t, k) => {
+    for (let j = 0; j < k; j++) if (sameValues(terms[j].slots, t.slots)) return j;
+    return k;
+  });
+  const errors = terms.map((t) => {
+    const n = gatherFiniteSorted(t.slots, 0, 1, draws, scratch);
+    return { se: orderStatisticStdErr(scratch, n, t.probability), q: quantileSorted(scratch, n, t.probability) };
+  });
+  // Joint and marginal shares below the quantiles, over draws where every column succeeded; the
+  // correlation of the indicators 1{X_t ≤ Q_t} is the correlation of the sample quantiles.
+  let both = 0;
+  const below = new Float64Array(terms.length);
+  const joint = new Float64Array(terms.length * terms.length);
+  for (let d = 0; d < draws; d++) {
+    let ok = true;
+    for (const t of terms) if (!Number.isFinite(t.slots[d])) ok = false;
+    if (!ok) continue;
+    both++;
+    for (let t = 0; t < terms.length; t++) {
+      if (!(terms[t].slots[d] <= errors[t].q)) continue;
+      below[t]++;
+      for (let u = 0; u < terms.length; u++) if (terms[u].slots[d] <= errors[u].q) joint[t * terms.length + u]++;
     }
-  };
-  // Break-even shifts are exact (no draws): the difference of two runs has no Monte Carlo error.
-  if (metric === 'mean-driven-share' || metric === 'forecast-break-even-std-errs') return undefined;
-  const out = new Float64Array(m);
-  for (let b = 0; b < m; b++) out[b] = statistic(batchStart(draws, m, b), batchStart(draws, m, b + 1));
+  }
+  let variance = 0;
+  for (let t = 0; t < terms.length; t++) {
+    for (let u = 0; u < terms.length; u++) {
+      const seProduct = errors[t].se * errors[u].se;
+      if (!Number.isFinite(seProduct)) return Number.NaN;
+      if (seProduct === 0) continue;
+      const a = terms[t];
+      const b = terms[u];
+      let correlation: number;
+      if (column[t] === column[u]) correlation = a.probability === b.probability ? 1 : quantileCorrelation(a.probability, b.probability);
+      else {
+        if (both < 2) return Number.NaN;
+        const pa = below[t] / both;
+        const pb = below[u] / both;
+        const scale = Math.sqrt(pa * (1 - pa) * pb * (1 - pb));
+        correlation = scale > 0 ? (joint[t * terms.length + u] / both - pa * pb) / scale : 0;
+      }
+      variance += a.coefficient * b.coefficient * seProduct * correlation;
+    }
+  }
+  return Math.sqrt(Math.max(0, variance));
+}
+
+function sameValues(a: Float64Array, b: Float64Array): boolean {
+  if (a === b) return true;
+  if (a.length !== b.length) return false;
+  for (let k = 0; k < a.length; k++) if (!Object.is(a[k], b[k])) return false;
+  return true;
+}
+
+/** sd/√n of the paired per-draw differences x_b − y_b over draws where both succeeded. */
+function pairedMeanStdErr(x: Float64Array, y: Float64Array): number {
+  const diff = new Float64Array(x.length);
+  let count = 0;
+  for (let b = 0; b < x.length; b++) {
+    const d = x[b] - y[b];
+    if (Number.isFinite(d)) diff[count++] = d;
+  }
+  return stridedMoments(diff, 0, 1, count).stdErr;
+}
+
+/**
+ * Per-draw influence values of the sd of the asset with the largest weight sd:
+ * ((w − w̄)² − s²)/(2s) (NaN in failed draws; 0 everywhere when s = 0). The delta method's
+ * linearisation of the sample sd.
+ */
+function maxSdInfluence(rows: Float64Array, draws: number, n: number): Float64Array {
+  let best = -1;
+  let bestSd = -1;
+  let bestMean = 0;
+  for (let i = 0; i < n; i++) {
+    const m = stridedMoments(rows, i, n, draws);
+    if (m.count >= 2 && m.sd > bestSd) {
+      best = i;
+      bestSd = m.sd;
+      bestMean = m.mean;
+    }
+  }
+  const out = new Float64Array(draws).fill(Number.NaN);
+  if (best < 0) return out;
+  for (let b = 0; b < draws; b++) {
+    const w = rows[b * n + best];
+    if (!Number.isFinite(w)) continue;
+    const d = w - bestMean;
+    out[b] = bestSd > 0 ? (d * d - bestSd * bestSd) / (2 * bestSd) : 0;
+  }
   return out;
 }
 
 /**
- * Monte Carlo standard error of (candidate − baseline) for a metric, from the batch-by-batch
- * differences of two runs that share their random numbers (same seed and draw count: common
- * random numbers, so draw b of both runs resamples the same rows or the same noise). The paired
- * differences cancel the noise the two runs share, which is the point of gating on a baseline.
- * Undefined when the runs cannot be paired (different draw counts or seeds, or no per-batch form).
+ * Monte Carlo standard error of (candidate − baseline) for a metric of one method (the candidate's
+ * method with this full spec, and its baseline counterpart, see counterpartIndex), from two runs that share their random numbers (same seed and draw count: common
+ * random numbers, so draw b of both runs resamples the same rows or the same noise). Each metric
+ * uses the paired form of its own error (see MONTE_CARLO_ERROR_DESCRIPTION): percentiles through
+ * the joint asymptotics of sample quantiles, means and sds through per-draw differences of their
+ * influence values, the outside-band share through the same bootstrap indices in both runs, the
+ * mean-driven share through the jackknife of the difference over the same groups.
+ * Undefined when the runs cannot be paired (different draw counts or seeds, a method missing) and
+ * NaN when the error cannot be estimated (fewer than 2 paired successful draws).
  */
-export function pairedStdErr(candidate: StressRun, baseline: StressRun, metric: PolicyRule['metric'], method: MethodName): number | undefined {
-  if (candidate.plan.draws !== baseline.plan.draws || String(candidate.plan.seed) !== String(baseline.plan.seed)) return undefined;
-  const a = metricByBatch(candidate, metric, method);
-  const b = metricByBatch(baseline, metric, method);
-  if (!a || !b) return undefined;
-  const diff = new Float64Array(a.length);
-  let usable = 0;
-  for (let i = 0; i < a.length; i++) {
-    const d = a[i] - b[i];
-    if (Number.isFinite(d)) diff[usable++] = d;
+export function pairedStdErr(candidate: StressRun, baseline: StressRun, metric: PolicyRule['metric'], spec: MethodSpec): number | undefined {
+  const draws = candidate.plan.draws;
+  if (draws !== baseline.plan.draws || String(candidate.plan.seed) !== String(baseline.plan.seed)) return undefined;
+  if (metric === 'volatility-band-width') {
+    const a = candidate.acc.proposalVolatility.slots();
+    const b = baseline.acc.proposalVolatility.slots();
+    return quantileCombinationStdErr([
+      { slots: a, probability: 0.95, coefficient: 1 },
+      { slots: a, probability: 0.05, coefficient: -1 },
+      { slots: b, probability: 0.95, coefficient: -1 },
+      { slots: b, probability: 0.05, coefficient: 1 },
+    ]);
   }
-  if (usable < 2) return undefined;
-  return stridedMoments(diff, 0, 1, usable).stdErr;
+  const ka = methodIndexBySpec(candidate.plan.problem.methods, spec);
+  const kb = ka < 0 ? -1 : counterpartIndex(baseline.plan.problem.methods, spec, ka);
+  if (ka < 0 || kb < 0) return undefined;
+  const ma = candidate.acc.methods[ka];
+  const mb = baseline.acc.methods[kb];
+  const n = candidate.plan.problem.n;
+  switch (metric) {
+    case 'turnover-from-proposal.p50':
+      return quantileCombinationStdErr([
+        { slots: ma.turnoverFromProposal.slots(), probability: 0.5, coefficient: 1 },
+        { slots: mb.turnoverFromProposal.slots(), probability: 0.5, coefficient: -1 },
+      ]);
+    case 'turnover-from-proposal.mean':
+      return pairedMeanStdErr(ma.turnoverFromProposal.slots(), mb.turnoverFromProposal.slots());
+    case 'max-weight-sd': {
+      if (baseline.plan.problem.n !== n) return undefined;
+      return pairedMeanStdErr(maxSdInfluence(ma.weights.rows(), draws, n), maxSdInfluence(mb.weights.rows(), draws, baseline.plan.problem.n));
+    }
+    case 'outside-band-share': {
+      const seed = candidate.plan.seed;
+      const a = outsideBandShareReplicates(ma.weights.rows(), draws, n, candidate.plan.problem.proposalWeights, BAND_EDGE_TOLERANCE, seed);
+      const b = outsideBandShareReplicates(mb.weights.rows(), draws, baseline.plan.problem.n, baseline.plan.problem.proposalWeights, BAND_EDGE_TOLERANCE, seed);
+      if (!a || !b) return Number.NaN;
+      const diff = new Float64Array(a.length);
+      for (let r = 0; r < a.length; r++) diff[r] = a[r] - b[r];
+      return stridedMoments(diff, 0, 1, diff.length).sd;
+    }
+    case 'forecast-break-even-std-errs':
+      // Break-even shifts are exact (no draws): the difference of two runs has no Monte Carlo error.
+      return 0;
+    case 'mean-driven-share': {
+      const a = ma.channels.leaveOneGroupOutShares();
+      const b = mb.channels.leaveOneGroupOutShares();
+      if (a.length !== b.length || a.length < 2) return undefined;
+      const diff = new Float64Array(a.length);
+      for (let k = 0; k < a.length; k++) diff[k] = a[k] - b[k];
+      return jackknifeStdErr(diff, diff.length);
+    }
+  }
 }

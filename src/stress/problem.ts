@@ -1,6 +1,7 @@
 import { RISKMETRICS_DAILY_DECAY } from '../estimate/ewma.js';
 import { returnHistoryFromRows } from '../estimate/history.js';
-import { nearestPsd, smallestEigenvalue } from '../estimate/psd.js';
+import { nearestPsd } from '../estimate/psd.js';
+import { choleskyDecompose } from '../linalg/dense.js';
 import type { RiskModel } from '../linalg/risk-model.js';
 import type { ConstraintSet, GroupConstraint } from '../optimize/types.js';
 import { expandBound } from '../schema/bounds.js';
@@ -67,9 +68,28 @@ export function defaultComparison(proposalMethod: MethodSpec): MethodSpec[] {
   ];
 }
 
-function canonicalSpec(spec: MethodSpec): string {
-  if (spec.name === 'kelly') return JSON.stringify({ name: 'kelly', fraction: spec.fraction ?? 1 });
-  return JSON.stringify(spec, Object.keys(spec).sort());
+/**
+ * One key per distinct method: defaults filled in (Kelly's fraction 1, a risk aversion split into
+ * equal factor and specific parts is the single number) and keys sorted at every depth, so nested
+ * settings such as riskAversion {factor, specific} take part in the comparison.
+ */
+export function canonicalSpec(spec: MethodSpec): string {
+  if (spec.name === 'kelly') return canonicalJson({ name: 'kelly', fraction: spec.fraction ?? 1 });
+  if (spec.name === 'mean-variance' && typeof spec.riskAversion === 'object' && spec.riskAversion.factor === spec.riskAversion.specific) {
+    return canonicalJson({ name: spec.name, riskAversion: spec.riskAversion.factor });
+  }
+  return canonicalJson(spec);
+}
+
+function canonicalJson(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
+  if (value !== null && typeof value === 'object') {
+    const entries = Object.entries(value as Record<string, unknown>)
+      .filter(([, v]) => v !== undefined)
+      .sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
+    return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${canonicalJson(v)}`).join(',')}}`;
+  }
+  return JSON.stringify(value);
 }
 
 export function methodList(proposal: Proposal): MethodSpec[] {
@@ -145,7 +165,9 @@ export function prepareProblem(proposal: Proposal, warnings: Warning[] = []): Pr
     mean = Float64Array.from(inputs.mean);
     let cov = denseFromRows(inputs.covariance);
     // Validation let a non-PSD matrix through only when the caller opted in to repair (and warned).
-    if (proposal.estimation?.repairCovariance && smallestEigenvalue(cov, n) < 0) cov = nearestPsd(cov, n).matrix;
+    // A matrix with a Cholesky factor is positive definite and needs nothing; otherwise one
+    // eigendecomposition (counted by the work model) gives the nearest PSD matrix.
+    if (proposal.estimation?.repairCovariance && choleskyDecompose(Float64Array.from(cov), n) >= 0) cov = nearestPsd(cov, n).matrix;
     riskModel = { kind: 'dense', n, cov };
     observations = inputs.observations;
   } else {

@@ -7,19 +7,26 @@ import { describeOptimum, clean, cleanArray } from './base-optimum.js';
 import { SHORTFALL_LEVEL, type StressAccumulators, type StressPlan } from './engine.js';
 import { expectedShortfall } from './scenarios.js';
 import { findingsFor } from './findings.js';
+import { methodKey } from './method-key.js';
+export { methodKey } from './method-key.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
 import { PERCENTILE_DEFINITION } from './quantiles.js';
 import type { ScalarSummary } from './scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
 
 
-/** A finite number for the report; NaN (not estimable: too few successful draws) becomes 0, with a 'few-draws' or 'method-not-estimable' warning. */
+/** A finite number for the report; NaN (no successful draw) becomes 0 — only for figures of a method the report warns about ('method-not-estimable'). */
 function finite(x: number): number {
   return Number.isFinite(x) ? clean(x) : 0;
 }
 
+/** A Monte Carlo error for the report: null when it cannot be estimated (fewer than 2 successful draws; the report warns), never a made-up 0. */
+function error(x: number): number | null {
+  return Number.isFinite(x) ? clean(x) : null;
+}
+
 function stat(s: ScalarSummary): Stat {
-  return { mean: finite(s.mean), stdErr: finite(s.stdErr), p05: finite(s.p05), p50: finite(s.p50), p95: finite(s.p95), p50StdErr: finite(s.p50StdErr) };
+  return { mean: finite(s.mean), stdErr: error(s.stdErr), p05: finite(s.p05), p50: finite(s.p50), p95: finite(s.p95), p50StdErr: error(s.p50StdErr) };
 }
 
 export interface ReportMeta {
@@ -35,7 +42,10 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
   const ppy = p.periodsPerYear;
   const warnings = [...plan.warnings];
   if (plan.draws < 100) {
-    warnings.push({ code: 'few-draws', message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.` });
+    warnings.push({
+      code: 'few-draws',
+      message: `Only ${plan.draws} draws: percentiles and their errors are rough; 500 or more is usual.${plan.draws < 2 ? ' With a single draw no Monte Carlo error can be estimated: every error is null.' : ''}`,
+    });
   }
 
   const sensitivity = forecastSensitivityTables(p, plan.base, plan.baseScenarios, plan.workUnits, plan.maxWorkUnits);
@@ -47,13 +57,13 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     if (summary.successfulDraws < 2) {
       warnings.push({
         code: 'method-not-estimable',
-        message: `${spec.name} succeeded in ${summary.successfulDraws} of ${plan.draws} draws: its draw-based figures cannot be estimated and are reported as 0 (see meta.failureReasons).`,
+        message: `${methodKey(spec)} succeeded in ${summary.successfulDraws} of ${plan.draws} draws: its Monte Carlo errors cannot be estimated (reported as null)${summary.successfulDraws === 0 ? ' and its draw-based figures are placeholders (0), not estimates' : ''}; see meta.failureReasons.`,
       });
     }
     const shares = a.channels.summarize();
-    const stability = outsideBandShare(a.weights.rows(), plan.draws, n, p.proposalWeights, BAND_EDGE_TOLERANCE);
+    const stability = outsideBandShare(a.weights.rows(), plan.draws, n, p.proposalWeights, BAND_EDGE_TOLERANCE, plan.seed);
     let maxSd = 0;
-    let maxSdErr = 0;
+    let maxSdErr = summary.successfulDraws < 2 ? Number.NaN : 0;
     summary.perAsset.forEach((w) => {
       if (w.sd > maxSd) {
         maxSd = w.sd;
@@ -72,8 +82,11 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
         p50: finite(w.p50),
         p75: finite(w.p75),
         p95: finite(w.p95),
-        bandStdErr: finite(w.bandStdErr),
+        bandStdErr: error(w.bandStdErr),
+        meanStdErr: error(w.meanStdErr),
+        p50StdErr: error(w.p50StdErr),
         selectionRate: finite(w.selectionRate),
+        selectionRateStdErr: error(w.selectionRateStdErr),
         proposalPercentile: finite(w.proposalPercentile),
       })),
       turnoverFromProposal: stat(a.turnoverFromProposal.summarize()),
@@ -83,11 +96,11 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       meanDrivenShare: {
         overall: finite(shares.overall),
         perAsset: cleanArray(Array.from(shares.perAsset, (x) => (Number.isFinite(x) ? x : 0))),
-        stdErr: finite(shares.overallStdErr),
+        stdErr: error(shares.overallStdErr),
       },
       resampledAverage: cleanArray(summary.resampledAverage),
-      outsideBandShare: { value: finite(stability.value), stdErr: finite(stability.stdErr) },
-      maxWeightSd: { value: finite(maxSd), stdErr: finite(maxSdErr) },
+      outsideBandShare: { value: finite(stability.value), stdErr: error(stability.stdErr) },
+      maxWeightSd: { value: finite(maxSd), stdErr: error(maxSdErr) },
       failedDraws: summary.failedDraws,
       ...(sensitivity.tables[k] ? { forecastSensitivity: sensitivity.tables[k] } : {}),
     };
@@ -104,10 +117,11 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     weights: cleanArray(p.proposalWeights),
     expectedReturn: { base: clean(annualiseMean(baseMu, ppy)), ...stat(ret) },
     volatility: { base: clean(annualiseVolatility(baseRisk.volatility, ppy)), ...stat(vol) },
-    volatilityBandWidth: { value: finite(vol.p95 - vol.p05), stdErr: finite(vol.bandWidthStdErr) },
+    volatilityBandWidth: { value: finite(vol.p95 - vol.p05), stdErr: error(vol.bandWidthStdErr) },
     riskContributions: shares.perAsset.map((s, i) => ({
       asset: p.assets[i],
-      base: clean(baseRisk.contributionShares[i]),
+      // 0 for a zero-variance proposal (0/0): no asset contributes risk.
+      base: finite(baseRisk.contributionShares[i]),
       p05: finite(s.p05),
       p50: finite(s.p50),
       p95: finite(s.p95),
@@ -126,7 +140,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
   const failureReasons: Report['meta']['failureReasons'] = [];
   for (const [reason, count] of acc.inputFailures) failureReasons.push({ method: 'inputs', reason, count });
   acc.methods.forEach((a, k) => {
-    for (const [reason, count] of a.failures) failureReasons.push({ method: p.methods[k].name, reason, count });
+    for (const [reason, count] of a.failures) failureReasons.push({ method: methodKey(p.methods[k]), reason, count });
   });
   failureReasons.sort((x, y) => y.count - x.count || x.method.localeCompare(y.method) || x.reason.localeCompare(y.reason));
   if (failedDraws > 0) {

@@ -1,4 +1,4 @@
-import type { MethodName, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
+import type { MethodSpec, Policy, PolicyRule, Proposal } from '../schema/proposal.js';
 import type { OptimizeResponse, Report } from '../schema/report.js';
 import type { Warning } from '../schema/validate.js';
 import { CAUTIONS } from '../schema/cautions.js';
@@ -6,9 +6,13 @@ import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
-import { checkLimits, createAccumulators, effectiveMaxWorkUnits, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan, type WorkLimits } from './engine.js';
-import { methodList, prepareProblem } from './problem.js';
+import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan } from './engine.js';
+import { prepareProblem } from './problem.js';
+import { DEFAULT_DRAWS } from '../cost/request-shape.js';
+import { assertFiniteReport } from './finite-guard.js';
+import { effectiveMaxWork } from '../cost/check.js';
 import { buildReport } from './report.js';
+import { methodKey } from './method-key.js';
 import { pairedStdErr, type StressRun } from './paired.js';
 import { judge } from './verdict.js';
 
@@ -25,8 +29,12 @@ export interface RunOptions {
   readonly onProgress?: (done: number, total: number) => void;
   /** Milliseconds since some origin; only used for meta.elapsedMs. */
   readonly clock?: () => number;
-  /** Limits the deployment lowers (WOBBLE_MAX_WORK on the service); the built-in limits otherwise. */
-  readonly limits?: WorkLimits;
+  /**
+   * A lower work maximum than LIMITS.maxWorkUnits for this deployment (counted units of
+   * src/cost/work-model.ts; larger values are capped at the limit). The HTTP layer passes the
+   * operator's setting here.
+   */
+  readonly maxWork?: number;
   /** Computes the draws elsewhere (worker threads, shards; src/scale) instead of in this loop. */
   readonly drawRunner?: DrawRunner;
 }
@@ -46,15 +54,23 @@ export interface DrawRunner {
 /** Share of draws the proposal's own method may fail in before the report is refused. */
 export const MAX_FAILED_SHARE = 0.5;
 
-export async function optimizeProposal(proposal: Proposal, warnings: Warning[], clock: () => number = () => 0, limits: WorkLimits = {}): Promise<OptimizeResponse> {
+export async function optimizeProposal(
+  proposal: Proposal,
+  warnings: Warning[],
+  clockOrOptions: (() => number) | Pick<RunOptions, 'clock' | 'maxWork'> = {},
+): Promise<OptimizeResponse> {
+  const options = typeof clockOrOptions === 'function' ? { clock: clockOrOptions } : clockOrOptions;
+  const clock = options.clock ?? (() => 0);
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits(proposal, 1, scheme, methodList(proposal), limits);
-  const problem = prepareProblem(proposal, warnings);
-  const scenarioKelly = problem.history !== undefined && scheme !== 'parametric';
-  const solved = solveBaseOptima(problem, scenarioKelly);
-  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWorkUnits(limits));
-  return {
+  const workUnits = checkLimits('optimize', proposal, 1, { maxWork: options.maxWork });
+  const prepared = prepareProblem(proposal, warnings);
+  const scenarioKelly = prepared.history !== undefined && scheme !== 'parametric';
+  const solved = solveBaseOptima(prepared, scenarioKelly);
+  // Methods without a base optimum (compared ones) are left out: solved.problem lists those kept.
+  const problem = solved.problem;
+  const sensitivity = forecastSensitivityTables(problem, solved.base, solved.baseScenarios, workUnits, effectiveMaxWork({ maxWork: options.maxWork }));
+  return assertFiniteReport({
     meta: { version: VERSION, inputDigest: await inputDigest(proposal), periodsPerYear: problem.periodsPerYear, elapsedMs: Math.round(clock() - started) },
     assets: [...problem.assets],
     methods: problem.methods.map((spec, k) => {
@@ -62,9 +78,9 @@ export async function optimizeProposal(proposal: Proposal, warnings: Warning[], 
       const base = describeOptimum(solved.base[k], problem.mean, problem.riskModel, problem.periodsPerYear);
       return table ? { method: spec, base, forecastSensitivity: table } : { method: spec, base };
     }),
-    warnings: [...problem.warnings, ...solved.warnings, ...sensitivity.warnings],
+    warnings: [...prepared.warnings, ...solved.warnings, ...sensitivity.warnings],
     cautions: [...CAUTIONS],
-  };
+  });
 }
 
 function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions): StressAccumulators {
@@ -90,18 +106,28 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
   const clock = options.clock ?? (() => 0);
   const started = clock();
   const runner = options.drawRunner;
-  const limits = runner?.workShares ? { ...options.limits, workShares: runner.workShares } : options.limits;
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, limits });
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, maxWork: options.maxWork, workShares: runner?.workShares });
   const acc = runner ? await runner.run(plan, proposal, options.onProgress) : computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
+    // Name the most frequent reason, so the caller learns why (e.g. an arbitrage among the scenarios).
+    let topReason = '';
+    let topCount = 0;
+    for (const [reason, count] of [...acc.methods[0].failures, ...acc.inputFailures]) {
+      if (count > topCount || (count === topCount && reason < topReason)) {
+        topReason = reason;
+        topCount = count;
+      }
+    }
     throw new TooManyFailuresError(
-      `${plan.problem.methods[0].name} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report. Consider a shrinkage covariance or a factor model.`,
+      `${methodKey(plan.problem.methods[0])} failed in ${own.failedDraws} of ${plan.draws} draws (more than ${MAX_FAILED_SHARE * 100}%); the inputs are too unstable for a meaningful report.` +
+        (topCount > 0 ? ` Most frequent reason (${topCount} draws): ${topReason}` : ' Consider a shrinkage covariance or a factor model.'),
     );
   }
   const digest = await inputDigest(proposal);
-  const report = buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) });
-  if (runner) report.meta = { ...report.meta, ...runner.record };
+  const built = buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) });
+  if (runner) built.meta = { ...built.meta, ...runner.record };
+  const report = assertFiniteReport(built);
   return { report, run: { plan, acc } };
 }
 
@@ -118,17 +144,21 @@ export type Baseline = { readonly kind: 'report'; readonly report: Omit<Report, 
  * baseline report only the two reports' errors are available (combined conservatively).
  */
 export async function checkProposal(proposal: Proposal, warnings: Warning[], policy: Policy, baseline: Baseline | undefined, options: RunOptions = {}): Promise<Report> {
+  // Both runs are priced together before either starts: a check against a baseline proposal does
+  // the work (and holds the memory) of two stress runs.
+  const draws = options.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
+  checkLimits('check', proposal, draws, { maxWork: options.maxWork, baseline: baseline?.kind === 'proposal' ? baseline.proposal : undefined });
   const candidate = await stressRun(proposal, warnings, options);
   if (!baseline || baseline.kind === 'report') {
-    return { ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report) };
+    return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report) });
   }
   const base = await stressRun(baseline.proposal, baseline.warnings, {
     draws: candidate.run.plan.draws,
     seed: candidate.run.plan.seed,
     clock: options.clock,
-    limits: options.limits,
+    maxWork: options.maxWork,
     drawRunner: options.drawRunner,
   });
-  const paired = (metric: PolicyRule['metric'], method: MethodName) => pairedStdErr(candidate.run, base.run, metric, method);
-  return { ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) };
+  const paired = (metric: PolicyRule['metric'], spec: MethodSpec) => pairedStdErr(candidate.run, base.run, metric, spec);
+  return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) });
 }

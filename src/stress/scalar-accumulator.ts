@@ -72,13 +72,13 @@ export interface ScalarSummary extends DrawCounts {
   readonly p05: number;
   readonly p50: number;
   readonly p95: number;
-  /** Monte Carlo standard errors of the percentiles (batch means or order statistics). */
+  /** Monte Carlo standard errors of the percentiles (order-statistic interval). */
   readonly p05StdErr: number;
   readonly p50StdErr: number;
   readonly p95StdErr: number;
   /** Monte Carlo standard error of p95 − p05 (for band-width gate rules). */
   readonly bandWidthStdErr: number;
-  readonly quantileErrorMethod: 'batch-means' | 'order-statistic';
+  readonly quantileErrorMethod: 'order-statistic';
 }
 
 /** JSON-safe state: values hold 0 in slots that did not succeed (status tells which). */

@@ -1,14 +1,35 @@
-import { batchCount, batchStart, stdErrOfBatchStatistics } from './batch-means.js';
+import { createDrawStream, type Seed } from '../resample/streams.js';
+import { stridedMoments } from './batch-means.js';
 import { quantileSorted } from './quantiles.js';
 
 /** Tolerance for "outside the band": a weight within 1e-9 of a band edge is on it. */
 export const BAND_EDGE_TOLERANCE = 1e-9;
 
 /**
+ * Bootstrap replicates for the outside-band share's Monte Carlo error: with R = 200 the error
+ * estimate itself has a relative sd of about 1/√(2R) = 5 % (Efron & Tibshirani 1993, §6.4 —
+ * 50–200 replicates suffice for a standard error).
+ */
+export const BOOTSTRAP_REPLICATES = 200;
+/** Stream purpose of the error bootstrap: replicate r uses the stream (seed, r, 'mc-error'). */
+export const BOOTSTRAP_PURPOSE = 'mc-error';
+/**
+ * An asset is recomputed in the replicates only when its proposed weight lies within this many
+ * binomial sds of rank of a band edge; further out, no replicate can move the edge past it
+ * (the chance is below 1e-11 per replicate).
+ */
+const ACTIVE_RANK_SDS = 7;
+
+/** Band edges of the outside-band share (the p05–p95 band). */
+const LOW = 0.05;
+const HIGH = 0.95;
+
+/**
  * Share of assets whose proposed weight lies outside the p05–p95 band of a method's resampled
- * weights, with its Monte Carlo standard error by batch means (the share recomputed inside each
- * contiguous batch of draws; Schmeiser 1982). `rows` is B×N with NaN rows for failed draws.
- * With fewer than two batches the error is the bound 0.5 (a share cannot vary more).
+ * weights, with its Monte Carlo standard error from a bootstrap of the draws (see
+ * BOOTSTRAP_REPLICATES and MONTE_CARLO_ERROR_DESCRIPTION). `rows` is B×N with NaN rows for
+ * failed draws. The error is a pure function of the rows, the proposal and the seed, so ranges of
+ * draws computed apart give the same figure. NaN stdErr with fewer than 2 successful draws.
  */
 export function outsideBandShare(
   rows: Float64Array,
@@ -16,19 +37,145 @@ export function outsideBandShare(
   n: number,
   proposal: Float64Array,
   tolerance: number,
+  seed: Seed,
 ): { value: number; stdErr: number } {
   const column = new Float64Array(draws);
-  const shareOver = (from: number, to: number): number => outsideBandShareOver(rows, n, proposal, tolerance, from, to, column);
-  const value = shareOver(0, draws);
-  const m = batchCount(draws);
-  if (m < 2) return { value, stdErr: 0.5 };
-  const stats = new Float64Array(m);
-  let usable = 0;
-  for (let k = 0; k < m; k++) {
-    const s = shareOver(batchStart(draws, m, k), batchStart(draws, m, k + 1));
-    if (Number.isFinite(s)) stats[usable++] = s;
+  const value = outsideBandShareOver(rows, n, proposal, tolerance, 0, draws, column);
+  const replicates = outsideBandShareReplicates(rows, draws, n, proposal, tolerance, seed);
+  if (!replicates) return { value, stdErr: Number.NaN };
+  return { value, stdErr: stridedMoments(replicates, 0, 1, replicates.length).sd };
+}
+
+/**
+ * The outside-band share recomputed in each of the R bootstrap replicates of the draws
+ * (undefined with fewer than 2 successful draws). Replicate r resamples B draw indices with
+ * replacement from the stream (seed, r, 'mc-error'), so two runs with the same seed and draw count
+ * resample the same draws — the paired bootstrap of `check --baseline`.
+ */
+export function outsideBandShareReplicates(
+  rows: Float64Array,
+  draws: number,
+  n: number,
+  proposal: Float64Array,
+  tolerance: number,
+  seed: Seed,
+): Float64Array | undefined {
+  const column = new Float64Array(draws);
+  let fixedOutside = 0;
+  let assets = 0;
+  const active: { sorted: Float64Array; order: Int32Array; x: number }[] = [];
+  for (let i = 0; i < n; i++) {
+    let count = 0;
+    for (let b = 0; b < draws; b++) if (Number.isFinite(rows[b * n + i])) count++;
+    if (count === 0) continue;
+    if (count < 2) return undefined;
+    assets++;
+    let m = 0;
+    for (let b = 0; b < draws; b++) if (Number.isFinite(rows[b * n + i])) column[m++] = rows[b * n + i];
+    const sorted = column.subarray(0, m).sort();
+    const x = proposal[i];
+    const outside = x < quantileSorted(sorted, m, LOW) - tolerance || x > quantileSorted(sorted, m, HIGH) + tolerance;
+    if (!nearEdge(sorted, m, x, tolerance)) {
+      if (outside) fixedOutside++;
+      continue;
+    }
+    // Sorted values with the draw each came from (ties keep draw order: deterministic).
+    const order = new Int32Array(m);
+    let k = 0;
+    for (let b = 0; b < draws; b++) if (Number.isFinite(rows[b * n + i])) order[k++] = b;
+    order.sort((a, c) => rows[a * n + i] - rows[c * n + i] || a - c);
+    const values = new Float64Array(m);
+    for (let j = 0; j < m; j++) values[j] = rows[order[j] * n + i];
+    active.push({ sorted: values, order, x });
   }
-  return { value, stdErr: usable >= 2 ? stdErrOfBatchStatistics(stats, usable) : 0.5 };
+  if (assets === 0) return undefined;
+  const out = new Float64Array(BOOTSTRAP_REPLICATES);
+  if (active.length === 0) return out.fill(fixedOutside / assets);
+  const replicates = bootstrapCounts(seed, draws);
+  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
+    const counts = replicates[r];
+    // Failed draws are failed for every asset of a method (whole rows), so one total serves all.
+    const total = resampledTotal(active[0].order, counts);
+    let outside = fixedOutside;
+    for (const a of active) {
+      if (total === 0) break;
+      const lo = expandedQuantile(a.sorted, a.order, counts, LOW, total);
+      const hi = expandedQuantile(a.sorted, a.order, counts, HIGH, total);
+      if (a.x < lo - tolerance || a.x > hi + tolerance) outside++;
+    }
+    out[r] = outside / assets;
+  }
+  return out;
+}
+
+/**
+ * The R replicates' counts for (seed, draws), computed once and reused by every method and by the
+ * paired baseline run (same seed and draw count: the same resampled draws). One entry is kept.
+ */
+let cachedCounts: { key: string; counts: Int32Array[] } | undefined;
+
+function bootstrapCounts(seed: Seed, draws: number): Int32Array[] {
+  const key = `${typeof seed}:${String(seed)}|${draws}`;
+  if (cachedCounts?.key === key) return cachedCounts.counts;
+  const counts: Int32Array[] = [];
+  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
+    const c = new Int32Array(draws);
+    resampleCounts(seed, r, draws, c);
+    counts.push(c);
+  }
+  cachedCounts = { key, counts };
+  return counts;
+}
+
+function resampledTotal(order: Int32Array, counts: Int32Array): number {
+  let total = 0;
+  for (let j = 0; j < order.length; j++) total += counts[order[j]];
+  return total;
+}
+
+/** counts[b] = how often draw b is picked when B draws are drawn with replacement from stream (seed, r, 'mc-error'). */
+export function resampleCounts(seed: Seed, replicate: number, draws: number, counts: Int32Array): void {
+  counts.fill(0);
+  const stream = createDrawStream(seed, replicate, BOOTSTRAP_PURPOSE);
+  for (let k = 0; k < draws; k++) counts[stream.integer(draws)]++;
+}
+
+/** Whether x lies within ACTIVE_RANK_SDS binomial sds of rank of the p05 or p95 order statistic. */
+function nearEdge(sorted: Float64Array, m: number, x: number, tolerance: number): boolean {
+  for (const q of [LOW, HIGH]) {
+    const spread = ACTIVE_RANK_SDS * Math.sqrt(m * q * (1 - q)) + 2;
+    const lo = sorted[Math.max(0, Math.floor(m * q - spread))];
+    const hi = sorted[Math.min(m - 1, Math.ceil(m * q + spread))];
+    if (x >= lo - 2 * tolerance && x <= hi + 2 * tolerance) return true;
+  }
+  return false;
+}
+
+/**
+ * Type-7 q-quantile of the resampled sample in which sorted value j (from draw order[j]) appears
+ * counts[order[j]] times. NaN when the resample holds no successful draw. O(m).
+ */
+export function expandedQuantile(sorted: Float64Array, order: Int32Array, counts: Int32Array, q: number, knownTotal?: number): number {
+  const m = sorted.length;
+  const total = knownTotal ?? resampledTotal(order, counts);
+  if (total === 0) return Number.NaN;
+  const h = (total - 1) * q;
+  const lowerIndex = Math.floor(h);
+  const upperIndex = lowerIndex + 1 < total ? lowerIndex + 1 : total - 1;
+  const gamma = h - lowerIndex;
+  let a = Number.NaN;
+  let b = Number.NaN;
+  let cumulative = 0;
+  for (let j = 0; j < m; j++) {
+    cumulative += counts[order[j]];
+    if (Number.isNaN(a) && cumulative > lowerIndex) a = sorted[j];
+    if (cumulative > upperIndex) {
+      b = sorted[j];
+      break;
+    }
+  }
+  const diff = b - a;
+  return gamma >= 0.5 ? b - diff * (1 - gamma) : a + diff * gamma;
 }
 
 /** The outside-band share over draws [from, to) (NaN when no draw succeeded); `column` needs to − from entries. */
@@ -51,8 +198,8 @@ export function outsideBandShareOver(
     }
     if (count === 0) continue;
     const sorted = column.subarray(0, count).sort();
-    const lo = quantileSorted(sorted, count, 0.05);
-    const hi = quantileSorted(sorted, count, 0.95);
+    const lo = quantileSorted(sorted, count, LOW);
+    const hi = quantileSorted(sorted, count, HIGH);
     assets++;
     // A weight exactly on the band edge (e.g. both 0 at a bound) is inside.
     if (proposal[i] < lo - tolerance || proposal[i] > hi + tolerance) outside++;

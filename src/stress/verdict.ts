@@ -1,33 +1,52 @@
-import type { MethodName, Policy, PolicyRule } from '../schema/proposal.js';
+import type { MethodName, MethodSpec, Policy, PolicyRule } from '../schema/proposal.js';
+import { counterpartIndex } from './paired.js';
 import type { Report, Verdict } from '../schema/report.js';
 import { normalQuantile } from './normal-quantile.js';
 
 /** A report figure with its Monte Carlo standard error. */
 export interface MetricEstimate {
   readonly value: number;
-  readonly stdErr: number;
+  /** null when the error cannot be estimated (too few successful draws). */
+  readonly stdErr: number | null;
+  /** The method the figure belongs to and its index in the report (absent for the proposal-level volatility band width). */
+  readonly spec?: MethodSpec;
+  readonly index?: number;
 }
 
 type ReportBody = Omit<Report, 'verdict'>;
 
-/** Reads a policy metric from a report, for the named method (default: the proposal's). */
-export function metricOf(report: ReportBody, metric: PolicyRule['metric'], method: MethodName): MetricEstimate | undefined {
-  if (metric === 'volatility-band-width') return report.proposal.volatilityBandWidth;
-  const m = report.methods.find((x) => x.method.name === method);
+/**
+ * Reads a policy metric from a report: for the named method (its first entry in the report;
+ * default the proposal's), or — `counterpart` given — for the counterpart of the candidate's method
+ * at that index (same full spec, so Kelly f = 1 and f = ½ are never confused; see counterpartIndex).
+ */
+export function metricOf(
+  report: ReportBody,
+  metric: PolicyRule['metric'],
+  method: MethodName,
+  counterpart?: { readonly spec: MethodSpec; readonly index: number },
+): MetricEstimate | undefined {
+  if (metric === 'volatility-band-width') return { value: report.proposal.volatilityBandWidth.value, stdErr: report.proposal.volatilityBandWidth.stdErr };
+  const specs = report.methods.map((x) => x.method);
+  const k = counterpart === undefined ? specs.findIndex((x) => x.name === method) : counterpartIndex(specs, counterpart.spec, counterpart.index);
+  const m = k < 0 ? undefined : report.methods[k];
   if (!m) return undefined;
+  const of = (value: number, stdErr: number | null | undefined): MetricEstimate => ({ value, stdErr: stdErr ?? null, spec: m.method, index: k });
   switch (metric) {
     case 'turnover-from-proposal.p50':
-      return { value: m.turnoverFromProposal.p50, stdErr: m.turnoverFromProposal.p50StdErr ?? 0 };
+      return of(m.turnoverFromProposal.p50, m.turnoverFromProposal.p50StdErr);
     case 'turnover-from-proposal.mean':
-      return { value: m.turnoverFromProposal.mean, stdErr: m.turnoverFromProposal.stdErr };
+      return of(m.turnoverFromProposal.mean, m.turnoverFromProposal.stdErr);
     case 'outside-band-share':
-      return m.outsideBandShare;
+      return of(m.outsideBandShare.value, m.outsideBandShare.stdErr);
     case 'mean-driven-share':
-      return { value: m.meanDrivenShare.overall, stdErr: m.meanDrivenShare.stdErr };
+      return of(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr);
     case 'max-weight-sd':
-      return m.maxWeightSd;
-    case 'forecast-break-even-std-errs':
-      return smallestBreakEven(m);
+      return of(m.maxWeightSd.value, m.maxWeightSd.stdErr);
+    case 'forecast-break-even-std-errs': {
+      const exact = smallestBreakEven(m);
+      return of(exact.value, exact.stdErr);
+    }
   }
 }
 
@@ -62,7 +81,10 @@ export class PolicyError extends Error {
   }
 }
 
-const fmt = (x: number): string => (Math.abs(x) >= 1e-3 || x === 0 ? x.toFixed(4) : x.toExponential(3));
+const fmt = (x: number | null): string => (x === null ? 'n/a' : Math.abs(x) >= 1e-3 || x === 0 ? x.toFixed(4) : x.toExponential(3));
+/** Error allowance z·se; an error that cannot be estimated allows nothing (the rule is judged on its value alone). */
+const allowance = (z: number, se: number | null): number => (se === null ? 0 : z * se);
+const noErrorNote = (se: number | null): string => (se === null ? ' (Monte Carlo error not estimable: judged on the value alone)' : '');
 
 /**
  * Judges each rule. A rule fails only when its value is beyond the threshold by more than the
@@ -76,7 +98,7 @@ export function judge(
   report: ReportBody,
   policy: Policy,
   baseline?: ReportBody,
-  pairedStdErr?: (metric: PolicyRule['metric'], method: MethodName) => number | undefined,
+  pairedStdErr?: (metric: PolicyRule['metric'], spec: MethodSpec) => number | undefined,
 ): Verdict {
   const z = normalQuantile(policy.confidence);
   const rules = policy.rules.map((rule, i) => {
@@ -89,21 +111,24 @@ export function judge(
     if (!est) throw new PolicyError([...path, 'method'], `method "${method}" was not re-optimised in this report; add it to compare`);
     const base = { id, metric: rule.metric, method, value: est.value, stdErr: est.stdErr };
     if (rule.max !== undefined) {
-      const pass = !(est.value - z * est.stdErr > rule.max);
-      return { ...base, threshold: rule.max, kind: 'max' as const, pass, message: `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}; the maximum is ${fmt(rule.max)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value > rule.max ? ' (above the maximum, but within Monte Carlo error)' : ''}.` };
+      const pass = !(est.value - allowance(z, est.stdErr) > rule.max);
+      return { ...base, threshold: rule.max, kind: 'max' as const, pass, message: `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}; the maximum is ${fmt(rule.max)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value > rule.max ? ' (above the maximum, but within Monte Carlo error)' : ''}${noErrorNote(est.stdErr)}.` };
     }
     if (rule.min !== undefined) {
-      const pass = !(est.value + z * est.stdErr < rule.min);
-      return { ...base, threshold: rule.min, kind: 'min' as const, pass, message: `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}; the minimum is ${fmt(rule.min)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value < rule.min ? ' (below the minimum, but within Monte Carlo error)' : ''}.` };
+      const pass = !(est.value + allowance(z, est.stdErr) < rule.min);
+      return { ...base, threshold: rule.min, kind: 'min' as const, pass, message: `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}; the minimum is ${fmt(rule.min)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value < rule.min ? ' (below the minimum, but within Monte Carlo error)' : ''}${noErrorNote(est.stdErr)}.` };
     }
     const limit = rule.maxIncrease as number;
     if (!baseline) throw new PolicyError([...path, 'maxIncrease'], 'maxIncrease compares with a baseline: pass one (an earlier report or proposal)');
-    const before = metricOf(baseline, rule.metric, method);
+    // The baseline's figure for the counterpart of the candidate's method (same full spec, or the proposal's method it replaces).
+    const before = metricOf(baseline, rule.metric, method, est.spec === undefined ? undefined : { spec: est.spec, index: est.index ?? -1 });
     if (!before) throw new PolicyError([...path, 'method'], `the baseline has no figures for method "${method}"`);
     const increase = est.value - before.value;
-    const paired = pairedStdErr?.(rule.metric, method);
-    const se = paired ?? Math.hypot(est.stdErr, before.stdErr);
-    const pass = !(increase - z * se > limit);
+    const pairedRaw = est.spec === undefined && rule.metric !== 'volatility-band-width' ? undefined : pairedStdErr?.(rule.metric, est.spec ?? report.proposal.method);
+    const paired = pairedRaw === undefined ? undefined : Number.isFinite(pairedRaw) ? pairedRaw : null;
+    const unpaired = est.stdErr === null || before.stdErr === null ? null : Math.hypot(est.stdErr, before.stdErr);
+    const se = paired === undefined ? unpaired : paired;
+    const pass = !(increase - allowance(z, se) > limit);
     return {
       ...base,
       stdErr: se,
@@ -112,7 +137,7 @@ export function judge(
       kind: 'maxIncrease' as const,
       baselineValue: before.value,
       pass,
-      message: `${rule.metric} for ${method} went from ${fmt(before.value)} to ${fmt(est.value)} (change ${fmt(increase)} ± ${fmt(se)}, ${paired === undefined ? 'unpaired error' : 'paired over common random numbers'}); the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}.`,
+      message: `${rule.metric} for ${method} went from ${fmt(before.value)} to ${fmt(est.value)} (change ${fmt(increase)} ± ${fmt(se)}, ${paired === undefined ? 'unpaired error' : 'paired over common random numbers'}); the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}${noErrorNote(se)}.`,
     };
   });
   return { pass: rules.every((r) => r.pass), confidence: policy.confidence, rules };

@@ -1,12 +1,4 @@
-import {
-  batchCount,
-  batchStart,
-  createQuantileErrorWorkspace,
-  MIN_BATCHES_FOR_QUANTILES,
-  quantileStdErrs,
-  stdErrOfBatchStatistics,
-  stridedMoments,
-} from './batch-means.js';
+import { createQuantileErrorWorkspace, quantileStdErrs, sdStdErrOfStrided, stridedMoments } from './batch-means.js';
 import { midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
 import {
   checkAssetCount,
@@ -38,7 +30,7 @@ export interface AssetWeightSummary {
   readonly meanStdErr: number;
   /** Sample sd, divisor n − 1. */
   readonly sd: number;
-  /** Batch-means SE of sd (normal-theory sd/√(2(n−1)) when B < 100), for `max-weight-sd`. */
+  /** Delta-method SE of sd (fourth moment), for `max-weight-sd`. */
   readonly sdStdErr: number;
   readonly p05: number;
   readonly p25: number;
@@ -47,6 +39,8 @@ export interface AssetWeightSummary {
   readonly p95: number;
   readonly p05StdErr: number;
   readonly p95StdErr: number;
+  /** Order-statistic SE of the median weight. */
+  readonly p50StdErr: number;
   /** max(p05StdErr, p95StdErr): one error bar for the band's edges. */
   readonly bandStdErr: number;
   /** Share of successful draws with |w_i| > threshold. */
@@ -64,7 +58,7 @@ export interface WeightSummary extends DrawCounts {
   /** Mean weights over the successful draws (the resampled average), per asset. */
   readonly resampledAverage: Float64Array;
   readonly selectionThreshold: number;
-  readonly quantileErrorMethod: 'batch-means' | 'order-statistic';
+  readonly quantileErrorMethod: 'order-statistic';
 }
 
 /** JSON-safe state: row-major B × N weights with 0 in rows that did not succeed. */
@@ -76,7 +70,7 @@ export interface WeightAccumulatorState {
 }
 
 const BAND_PROBABILITIES = [0.05, 0.25, 0.5, 0.75, 0.95];
-const EDGE_PROBABILITIES = [0.05, 0.95];
+const EDGE_PROBABILITIES = [0.05, 0.95, 0.5];
 
 /**
  * One method's joint-channel weights: slot drawIndex holds w_b (N values) in a row-major
@@ -163,7 +157,7 @@ export class WeightAccumulator {
     const edgeErrors = new Float64Array(EDGE_PROBABILITIES.length);
     const resampledAverage = new Float64Array(n);
     const perAsset: AssetWeightSummary[] = [];
-    let quantileErrorMethod: 'batch-means' | 'order-statistic' = 'order-statistic';
+    const quantileErrorMethod = 'order-statistic' as const;
     for (let i = 0; i < n; i++) {
       const moments = stridedMoments(this.weights, i, n, B);
       // Selection rate, read before the sort reuses the scratch buffer.
@@ -174,14 +168,14 @@ export class WeightAccumulator {
       const m = quantilesOfStrided(this.weights, i, n, B, BAND_PROBABILITIES, workspace.sort, bands);
       const proposalPercentile = midRankPercentileSorted(workspace.sort, m, proposal[i]);
       const proposalPercentileStdErr = midRankStdErr(workspace.sort, m, proposal[i]);
-      quantileErrorMethod = quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
+      quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
       const selectionRate = m > 0 ? selected / m : Number.NaN;
       resampledAverage[i] = moments.mean;
       perAsset.push({
         mean: moments.mean,
         meanStdErr: moments.stdErr,
         sd: moments.sd,
-        sdStdErr: this.sdStdErr(i, moments.sd, moments.count, workspace.batch),
+        sdStdErr: sdStdErrOfStrided(this.weights, i, n, B),
         p05: bands[0],
         p25: bands[1],
         p50: bands[2],
@@ -189,6 +183,7 @@ export class WeightAccumulator {
         p95: bands[4],
         p05StdErr: edgeErrors[0],
         p95StdErr: edgeErrors[1],
+        p50StdErr: edgeErrors[2],
         bandStdErr: Math.max(edgeErrors[0], edgeErrors[1]),
         selectionRate,
         selectionRateStdErr: m > 1 ? Math.sqrt((selectionRate * (1 - selectionRate)) / (m - 1)) : Number.NaN,
@@ -197,24 +192,6 @@ export class WeightAccumulator {
       });
     }
     return { ...this.counts(), perAsset, resampledAverage, selectionThreshold, quantileErrorMethod };
-  }
-
-  /**
-   * SE of the weight sd: batch means of the per-batch sd when there are ≥ 10 batches; otherwise
-   * the normal-theory approximation sd/√(2(n−1)) (e.g. Kendall & Stuart, Advanced Theory of
-   * Statistics; from memory).
-   */
-  private sdStdErr(asset: number, sd: number, count: number, batchScratch: Float64Array): number {
-    const B = this.draws;
-    const batches = batchCount(B);
-    if (batches < MIN_BATCHES_FOR_QUANTILES) return count > 1 ? sd / Math.sqrt(2 * (count - 1)) : Number.NaN;
-    const n = this.assets;
-    for (let k = 0; k < batches; k++) {
-      const from = batchStart(B, batches, k);
-      const to = batchStart(B, batches, k + 1);
-      batchScratch[k] = stridedMoments(this.weights, from * n + asset, n, to - from).sd;
-    }
-    return stdErrOfBatchStatistics(batchScratch, batches);
   }
 
   toState(): WeightAccumulatorState {

@@ -213,7 +213,7 @@ async function workerd(p: ProposalInput, draws: number): Promise<Pieces> {
   const v = valid(p);
   const stored = 2 * 2000 * 2000;
   console.log(
-    `   note: 2000 draws × 2000 assets × (methods + 1) = ${stored.toExponential(1)} stored values even with one method, over maxStoredValues ${LIMITS.maxStoredValues.toExponential(1)}`,
+    `   note: 2000 draws × 2000 assets × (methods + 1) = ${stored.toExponential(1)} stored values even with one method, (the memory model, LIMITS.maxMemoryBytes = ${(LIMITS.maxMemoryBytes / 2 ** 20).toFixed(0)} MiB, decides what fits)`,
   );
   console.log(`         (the merge keeps every draw's slots in one 128 MB isolate), so 2000 draws are refused (413) sharded or not; ${draws} is what fits here.`);
   const script = bundleWorker();
@@ -234,7 +234,7 @@ async function workerd(p: ProposalInput, draws: number): Promise<Pieces> {
 
   // Pieces for the model, measured in Node on the same case.
   const t0 = performance.now();
-  const plan = planStress(v.proposal, v.warnings, { limits: { workShares: Number.POSITIVE_INFINITY } });
+  const plan = planStress(v.proposal, v.warnings, { workShares: Number.POSITIVE_INFINITY });
   const planSeconds = (performance.now() - t0) / 1000;
   const sample = Math.min(20, draws);
   const acc = createAccumulators(plan);

@@ -204,7 +204,10 @@ function methodReport(plan: MethodPlan, assets: readonly string[], index: number
       p75: q[3],
       p95: q[4],
       bandStdErr: (1.9 * sd) / Math.sqrt(DRAWS),
+      meanStdErr: sd / Math.sqrt(DRAWS),
+      p50StdErr: (1.25 * sd) / Math.sqrt(DRAWS),
       selectionRate,
+      selectionRateStdErr: Math.sqrt((selectionRate * (1 - selectionRate)) / (DRAWS - 1)),
       proposalPercentile,
     };
   });
@@ -236,7 +239,7 @@ function methodReport(plan: MethodPlan, assets: readonly string[], index: number
 function sampleVerdict(methods: readonly MethodReport[], outsideBandShare: number): Verdict {
   const mv = methods[0];
   const turnoverValue = mv.turnoverFromProposal.p50;
-  const turnoverError = mv.turnoverFromProposal.p50StdErr ?? mv.turnoverFromProposal.stdErr;
+  const turnoverError = mv.turnoverFromProposal.p50StdErr ?? mv.turnoverFromProposal.stdErr ?? 0;
   const turnoverThreshold = 0.1;
   // A rule fails only when it is beyond its threshold by more than z·stdErr (one-sided 95 %).
   const turnoverPass = turnoverValue - Z05 * turnoverError <= turnoverThreshold;

@@ -5,7 +5,7 @@ import { allowedOrigin } from '../../src/http/cors.js';
 
 describe('readConfig', () => {
   it('defaults: no token, any origin, built-in limits, no rate limiter, nothing wrong', () => {
-    expect(readConfig(undefined)).toEqual({ tokens: [], cors: { any: true }, limits: {}, rateLimiter: undefined, problems: [] });
+    expect(readConfig(undefined)).toEqual({ tokens: [], cors: { any: true }, rateLimiter: undefined, problems: [] });
   });
 
   it('reads several tokens and trims them; a set-but-empty secret or a token with spaces is a problem', () => {
@@ -26,8 +26,8 @@ describe('readConfig', () => {
   });
 
   it('WOBBLE_MAX_WORK: a positive number, else a problem', () => {
-    expect(readConfig({ WOBBLE_MAX_WORK: '2e8' }).limits).toEqual({ maxWorkUnits: 2e8 });
-    expect(readConfig({ WOBBLE_MAX_WORK: ' ' }).limits).toEqual({});
+    expect(readConfig({ WOBBLE_MAX_WORK: '2e8' }).maxWork).toBe(2e8);
+    expect(readConfig({ WOBBLE_MAX_WORK: ' ' }).maxWork).toBeUndefined();
     for (const bad of ['0', '-1', 'NaN', 'Infinity', '1e400', 'ten']) expect(readConfig({ WOBBLE_MAX_WORK: bad }).problems, bad).toHaveLength(1);
   });
 });

@@ -222,7 +222,7 @@ describe('WOBBLE_MAX_WORK', () => {
     for (const path of ['/v1/stress', '/v1/optimize']) {
       const res = await post(path, body, { WOBBLE_MAX_WORK: '10' });
       expect(res.status, path).toBe(413);
-      expect(((await res.json()) as { detail: string }).detail).toMatch(/work limit of 1\.0e\+1 \(maxWorkUnits, lowered on this deployment\)/);
+      expect(((await res.json()) as { detail: string }).detail).toMatch(/limit of 1\.0e\+1 \(maxWorkUnits, lowered on this deployment\)/);
     }
     const check = await post('/v1/check', { proposal: body, policy: { rules: [{ metric: 'max-weight-sd', max: 1 }] } }, { WOBBLE_MAX_WORK: '10' });
     expect(check.status).toBe(413);

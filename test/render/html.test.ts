@@ -91,8 +91,8 @@ describe('renderReportHtml', () => {
     const t = mv.turnoverFromProposal;
     expect(html).toContain(`${(t.p50 * 100).toFixed(1)}% ± ${(t.p50StdErr! * 100).toFixed(1)}%`);
     const w = report.proposal.volatilityBandWidth;
-    expect(html).toContain(`${(w.value * 100).toFixed(2)}% ± ${(w.stdErr * 100).toFixed(2)}%`);
-    expect(html).toContain(`${(mv.outsideBandShare.value * 100).toFixed(1)}% ± ${(mv.outsideBandShare.stdErr * 100).toFixed(1)}%`);
+    expect(html).toContain(`${(w.value * 100).toFixed(2)}% ± ${(w.stdErr! * 100).toFixed(2)}%`);
+    expect(html).toContain(`${(mv.outsideBandShare.value * 100).toFixed(1)}% ± ${(mv.outsideBandShare.stdErr! * 100).toFixed(1)}%`);
   });
 
   it('marks the outside-band row and opens the proposal method details', () => {

@@ -150,9 +150,9 @@ describe('renderVerdictJunit', () => {
     expect(failure.name).toBe('failure');
     expect(failure.attrs.type).toBe('policy.max');
     expect(failure.attrs.message).toContain(rule.message);
-    expect(failure.attrs.message).toContain(`value ${(rule.value * 100).toFixed(2)}% ± ${(rule.stdErr * 100).toFixed(2)}%, max ${(rule.threshold * 100).toFixed(2)}%`);
+    expect(failure.attrs.message).toContain(`value ${(rule.value * 100).toFixed(2)}% ± ${(rule.stdErr! * 100).toFixed(2)}%, max ${(rule.threshold * 100).toFixed(2)}%`);
     expect(failure.text).toContain(`value: ${(rule.value * 100).toFixed(2)}% (${rule.value})`);
-    expect(failure.text).toContain(`stdErr: ${(rule.stdErr * 100).toFixed(2)}% (${rule.stdErr})`);
+    expect(failure.text).toContain(`stdErr: ${(rule.stdErr! * 100).toFixed(2)}% (${rule.stdErr})`);
     expect(failure.text).toContain(`threshold (max): 10.00% (0.1)`);
     expect(failure.text).toContain('confidence: 0.95');
   });

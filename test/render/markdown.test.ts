@@ -76,7 +76,7 @@ describe('renderReportMarkdown', () => {
       t.rows.forEach((row, i) => {
         expect(row[t.header.indexOf('p05')]).toBe(`${(m.weights[i].p05 * 100).toFixed(1)}%`);
         expect(row[t.header.indexOf('p95')]).toBe(`${(m.weights[i].p95 * 100).toFixed(1)}%`);
-        expect(row[t.header.indexOf('Band ± se')]).toBe(`${(m.weights[i].bandStdErr * 100).toFixed(1)}%`);
+        expect(row[t.header.indexOf('Band ± se')]).toBe(`${(m.weights[i].bandStdErr! * 100).toFixed(1)}%`);
       });
     });
   });
@@ -87,7 +87,7 @@ describe('renderReportMarkdown', () => {
     expect(proposal.rows[0]).toEqual([
       'Volatility (annualised)',
       `${(v.base * 100).toFixed(2)}%`,
-      `${(v.mean * 100).toFixed(2)}% ± ${(v.stdErr * 100).toFixed(2)}%`,
+      `${(v.mean * 100).toFixed(2)}% ± ${(v.stdErr! * 100).toFixed(2)}%`,
       `${(v.p05 * 100).toFixed(2)}%`,
       `${(v.p50 * 100).toFixed(2)}% ± ${(v.p50StdErr! * 100).toFixed(2)}%`,
       `${(v.p95 * 100).toFixed(2)}%`,

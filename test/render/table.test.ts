@@ -79,7 +79,7 @@ describe('renderReportTable', () => {
         pct(b.p05),
         '–',
         pct(b.p95),
-        pct(b.bandStdErr),
+        pct(b.bandStdErr!),
         b.proposalPercentile.toFixed(0),
         pct(b.selectionRate),
         pct(mv.meanDrivenShare.perAsset[i]),
@@ -100,10 +100,10 @@ describe('renderReportTable', () => {
       const row = rows.find((l) => l.startsWith(`${methodLabel(m.method)} `));
       expect(row, methodLabel(m.method)).toBeDefined();
       const t = m.turnoverFromProposal;
-      expect(row).toContain(`${pct(t.p50)} ± ${pct(t.p50StdErr ?? t.stdErr)}`);
+      expect(row).toContain(`${pct(t.p50)} ± ${pct((t.p50StdErr ?? t.stdErr)!)}`);
       expect(row).toContain(pct(m.volatility.p05));
-      expect(row).toContain(`${(m.certaintyEquivalentLoss.mean * 1e4).toFixed(0)} bp ± ${(m.certaintyEquivalentLoss.stdErr * 1e4).toFixed(0)}`);
-      expect(row).toContain(`${pct(m.meanDrivenShare.overall)} ± ${pct(m.meanDrivenShare.stdErr)}`);
+      expect(row).toContain(`${(m.certaintyEquivalentLoss.mean * 1e4).toFixed(0)} bp ± ${(m.certaintyEquivalentLoss.stdErr! * 1e4).toFixed(0)}`);
+      expect(row).toContain(`${pct(m.meanDrivenShare.overall)} ± ${pct(m.meanDrivenShare.stdErr!)}`);
     }
     // Equal weight carries no median error in the sample: marked with † and explained.
     expect(rows.find((l) => l.startsWith('equal-weight '))).toContain('†');
@@ -113,7 +113,7 @@ describe('renderReportTable', () => {
   it('shows the proposal volatility band with its width and errors', () => {
     const v = report.proposal.volatility;
     expect(text).toContain(`p05–p95 ${pct(v.p05)} – ${pct(v.p95)}`);
-    expect(text).toContain(`width ${pct(report.proposal.volatilityBandWidth.value)} ± ${pct(report.proposal.volatilityBandWidth.stdErr)}`);
+    expect(text).toContain(`width ${pct(report.proposal.volatilityBandWidth.value)} ± ${pct(report.proposal.volatilityBandWidth.stdErr!)}`);
   });
 
   it('lists findings, warnings, the verdict and a short cautions line', () => {

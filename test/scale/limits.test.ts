@@ -3,14 +3,13 @@ import { AUTO_SHARD_WORK, automaticShards, MAX_SHARDS, shardedWorkShares } from 
 import { rangeWorkShares } from '../../src/scale/range-job.js';
 import { LIMITS } from '../../src/schema/limits.js';
 import { checkLimits, LimitError } from '../../src/stress/engine.js';
-import { methodList } from '../../src/stress/problem.js';
 import { factorCase } from '../bench/scale-problems.js';
 import { valid } from './helpers.js';
 
 describe('limits of a sharded request', () => {
   // 2000 assets, 8 factors, one method at 1000 draws: about 2.3e10 units, over one request's 2e10.
   const big = valid(factorCase(2000, 8, 1000)).proposal;
-  const work = (shares: number) => checkLimits(big, 1000, 'parametric', methodList(big), { workShares: shares });
+  const work = (shares: number) => checkLimits('stress', big, 1000, { workShares: shares });
 
   it('scales the work limit with the shards, and holds each range to one request’s share', () => {
     expect(() => work(1)).toThrow(LimitError);
@@ -23,7 +22,7 @@ describe('limits of a sharded request', () => {
 
   it('does not scale the memory limit: the merge holds every draw in one isolate', () => {
     const tooMany = valid(factorCase(2000, 8, 2000)).proposal;
-    expect(() => checkLimits(tooMany, 2000, 'parametric', methodList(tooMany), { workShares: 32 })).toThrow(/maxStoredValues/);
+    expect(() => checkLimits('stress', tooMany, 2000, { workShares: 32 })).toThrow(/maxMemoryBytes/);
   });
 
   it('shards automatically one per AUTO_SHARD_WORK, at most MAX_SHARDS and the draws', () => {

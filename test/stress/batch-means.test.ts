@@ -4,8 +4,11 @@ import {
   batchOfDraw,
   batchStart,
   createQuantileErrorWorkspace,
+  jackknifeStdErr,
   MONTE_CARLO_ERROR_DESCRIPTION,
   orderStatisticStdErr,
+  quantileCorrelation,
+  sdStdErrOfStrided,
   quantileStdErrs,
   quantileWidthStdErr,
   stdErrOfBatchStatistics,
@@ -54,22 +57,53 @@ describe('moments', () => {
 });
 
 describe('quantile errors', () => {
-  it('order-statistic fallback: the interval of ranks nq ∓ 1.96√(nq(1−q)) over 2·1.96', () => {
-    // n = 20, q = 0.5: ranks ⌊10 − 4.38⌋ = 5 and ⌈14.38⌉ = 15 of x = 1..20 → (15 − 5)/(2·1.96).
-    const x = Float64Array.from({ length: 20 }, (_, k) => k + 1);
-    expect(orderStatisticStdErr(x, 20, 0.5)).toBeCloseTo(10 / (2 * 1.959963984540054), 14);
+  it('order-statistic SE: s·(Q(q + z·s) − Q(q − z·s))/(2z·s), s = √(q(1−q)/n)', () => {
+    // x = 1..21, q = 0.5: s = √(0.25/21), type-7 Q(p) = 1 + 20p, so the width is 20·2z·s and SE = 20·s.
+    // (Siddiqui 1960 / Bloch & Gastwirth 1968 sparsity estimate times √(q(1−q)/n); Serfling 1980 §2.3.3.)
+    const x = Float64Array.from({ length: 21 }, (_, k) => k + 1);
+    expect(orderStatisticStdErr(x, 21, 0.5)).toBeCloseTo(20 * Math.sqrt(0.25 / 21), 12);
     expect(orderStatisticStdErr(x, 1, 0.5)).toBeNaN();
+    // Clamped at the edge: q = 0.05, n = 21 → lo = 0, hi = 0.05 + z·s; still slope 20 per unit probability.
+    expect(orderStatisticStdErr(x, 21, 0.05)).toBeCloseTo(20 * Math.sqrt((0.05 * 0.95) / 21), 12);
   });
 
-  it('small B uses order statistics, B ≥ 100 batch means; constant samples give 0; B = 1 gives NaN', () => {
-    const out = new Float64Array(2);
-    expect(quantileStdErrs(new Float64Array(50).fill(0.3), 0, 1, 50, [0.05, 0.95], out, createQuantileErrorWorkspace(50))).toBe('order-statistic');
-    expect(Array.from(out)).toEqual([0, 0]);
-    expect(quantileStdErrs(new Float64Array(200).fill(0.3), 0, 1, 200, [0.05, 0.95], out, createQuantileErrorWorkspace(200))).toBe('batch-means');
-    expect(Array.from(out)).toEqual([0, 0]);
-    quantileStdErrs(Float64Array.of(2), 0, 1, 1, [0.5, 0.5], out, createQuantileErrorWorkspace(1));
+  it('exactly 0 on a point mass (tied order statistics), NaN below 2 draws', () => {
+    const out = new Float64Array(3);
+    expect(quantileStdErrs(new Float64Array(50).fill(0.3), 0, 1, 50, [0.05, 0.5, 0.95], out, createQuantileErrorWorkspace(50))).toBe('order-statistic');
+    expect(Array.from(out)).toEqual([0, 0, 0]);
+    // 90 % of the draws pinned at 0: the p05 and p50 are tied there (error 0), the p95 is not.
+    const pinned = Float64Array.from({ length: 400 }, (_, b) => (b % 10 === 0 ? 0.01 + b * 1e-4 : 0));
+    quantileStdErrs(pinned, 0, 1, 400, [0.05, 0.5, 0.95], out, createQuantileErrorWorkspace(400));
+    expect(out[0]).toBe(0);
+    expect(out[1]).toBe(0);
+    expect(out[2]).toBeGreaterThan(0);
+    quantileStdErrs(Float64Array.of(2), 0, 1, 1, [0.5, 0.5, 0.5], out, createQuantileErrorWorkspace(1));
     expect(out[0]).toBeNaN();
     expect(quantileWidthStdErr(new Float64Array(200).fill(1), 0, 1, 200, 0.05, 0.95, createQuantileErrorWorkspace(200))).toBe(0);
+  });
+
+  it('band width: the two errors with the asymptotic correlation l(1−h)/√(l(1−l)h(1−h))', () => {
+    // Serfling (1980) §2.3.3: for the 5th and 95th percentiles the correlation is 0.0025/0.0475.
+    expect(quantileCorrelation(0.05, 0.95)).toBeCloseTo(0.0025 / 0.0475, 15);
+    const x = Float64Array.from({ length: 401 }, (_, k) => k / 400);
+    const ws = createQuantileErrorWorkspace(401);
+    const lo = orderStatisticStdErr(x, 401, 0.05);
+    const hi = orderStatisticStdErr(x, 401, 0.95);
+    const rho = 0.0025 / 0.0475;
+    expect(quantileWidthStdErr(x, 0, 1, 401, 0.05, 0.95, ws)).toBeCloseTo(Math.sqrt(lo * lo + hi * hi - 2 * rho * lo * hi), 15);
+  });
+
+  it('delta-method SE of a standard deviation and the grouped jackknife', () => {
+    // Normal data: (m4 − s⁴)/(4s²n) → s²/(2n) (m4 = 3σ⁴; Kendall & Stuart, from memory). Symmetric ±1 data has
+    // m4 = s⁴ exactly, so the sd of such a sample is known without error: SE 0.
+    const pm = Float64Array.from({ length: 100 }, (_, k) => (k % 2 === 0 ? 1 : -1));
+    expect(sdStdErrOfStrided(pm, 0, 1, 100)).toBeLessThan(1e-9);
+    expect(sdStdErrOfStrided(new Float64Array(10).fill(3), 0, 1, 10)).toBe(0);
+    expect(sdStdErrOfStrided(Float64Array.of(3), 0, 1, 1)).toBeNaN();
+    // Jackknife of the mean equals sd/√n (Efron & Tibshirani 1993, §11.2): leave-one-out means of 1..5.
+    const values = [1, 2, 3, 4, 5];
+    const loo = Float64Array.from(values, (_, k) => (15 - values[k]) / 4);
+    expect(jackknifeStdErr(loo, 5)).toBeCloseTo(Math.sqrt(2.5 / 5), 14);
   });
 
   it('does not depend on anything but the values in their draw slots', () => {
@@ -87,7 +121,10 @@ describe('quantile errors', () => {
   });
 
   it('describes itself for the report meta', () => {
-    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('Schmeiser 1982');
-    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('min(30, floor(B/10))');
+    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('order-statistic interval');
+    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('jackknife');
+    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('bootstrap');
+    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('reported as null');
+    expect(MONTE_CARLO_ERROR_DESCRIPTION).not.toContain('reported as 0');
   });
 });

@@ -46,7 +46,7 @@ describe('ChannelVarianceAccumulator', () => {
     // Uniform noise of width 0.1 vs 0.05: variance ratio 4, so the share is near 0.8.
     expect(expected.overall).toBeGreaterThan(0.7);
     expect(expected.overall).toBeLessThan(0.9);
-    expect(expected.overallErrorMethod).toBe('batch-means');
+    expect(expected.overallErrorMethod).toBe('jackknife');
     expect(expected.overallStdErr).toBeGreaterThan(0);
     expect(expected.overallStdErr).toBeLessThan(0.05);
   });

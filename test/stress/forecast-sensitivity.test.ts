@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import type { RequestShape } from '../../src/cost/request-shape.js';
 import { oneWayTurnover, patternOf } from '../../src/optimize/forecast-sensitivity.js';
 import { meanVariance } from '../../src/optimize/mean-variance.js';
 import { PolicySchema, type ProposalInput } from '../../src/schema/proposal.js';
@@ -152,7 +153,25 @@ describe('the work of the table', () => {
     const v = valid(capped({ resampling: { draws: 20, seed: 'fs' } }));
     const plan = planStress(v.proposal, v.warnings);
     const report = await stressProposal(v.proposal, v.warnings);
-    const shape = { n: 3, rows: 0, factors: 0, pca: false, scenarioKelly: false };
+    const groups = plan.problem.constraints.groups;
+    const shape: RequestShape = {
+      n: 3,
+      rows: 0,
+      factors: 0,
+      inputKind: 'dense-moments',
+      covarianceEstimator: 'sample',
+      factorModel: 'none',
+      repair: false,
+      groups: groups.length,
+      groupMemberships: groups.reduce((total, g) => total + g.members.length, 0),
+      inputNumbers: 0,
+      assetIdChars: 0,
+      methods: plan.problem.methods,
+      draws: 1,
+      scheme: 'parametric',
+      singular: false,
+      scenarioKelly: false,
+    };
     const expected = forecastSensitivityOps([plan.problem.methods[0]], shape) + forecastSensitivityOps([plan.problem.methods[2]], shape);
     expect(report.meta.workUnits).toBe(Math.round(plan.workUnits + expected));
     const full = forecastSensitivityTables(plan.problem, plan.base, plan.baseScenarios, LIMITS.maxWorkUnits - 1);

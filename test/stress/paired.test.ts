@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { PolicySchema } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
-import { metricByBatch, pairedStdErr } from '../../src/stress/paired.js';
+import { counterpartIndex, pairedStdErr } from '../../src/stress/paired.js';
 import { checkProposal, stressRun } from '../../src/stress/run.js';
 import { historyProposal } from '../helpers/proposals.js';
 
@@ -12,15 +12,22 @@ function valid(riskAversion: number) {
 }
 
 describe('paired (common random numbers) errors for a baseline', () => {
-  it('per-batch metrics average to about the full-sample figure', async () => {
+  it('the paired error of identical runs is exactly 0, and methods are matched by their full spec', async () => {
     const v = valid(5);
-    const { report, run } = await stressRun(v.proposal, v.warnings);
-    const batches = metricByBatch(run, 'turnover-from-proposal.mean', 'mean-variance');
-    expect(batches).toBeDefined();
-    const mean = Array.from(batches ?? []).reduce((a, b) => a + b, 0) / (batches?.length ?? 1);
-    // Batches are equal-sized here (300 draws, 30 batches), so the mean of batch means is the overall mean.
-    expect(mean).toBeCloseTo(report.methods[0].turnoverFromProposal.mean, 10);
-    expect(metricByBatch(run, 'mean-driven-share', 'mean-variance')).toBeUndefined();
+    const a = await stressRun(v.proposal, v.warnings);
+    const b = await stressRun(v.proposal, v.warnings);
+    const spec = a.run.plan.problem.methods[0];
+    for (const metric of ['turnover-from-proposal.p50', 'turnover-from-proposal.mean', 'volatility-band-width', 'outside-band-share', 'max-weight-sd', 'mean-driven-share'] as const) {
+      expect(pairedStdErr(a.run, b.run, metric, spec), metric).toBe(0);
+    }
+    // Kelly f = ½ is not Kelly f = 1: with both in the baseline, each finds its own counterpart.
+    const specs = [{ name: 'mean-variance', riskAversion: 5 }, { name: 'kelly' }, { name: 'kelly', fraction: 0.5 }] as const;
+    expect(counterpartIndex(specs, { name: 'kelly', fraction: 0.5 }, 2)).toBe(2);
+    expect(counterpartIndex(specs, { name: 'kelly' }, 1)).toBe(1);
+    // Ambiguous (two Kelly specs, neither matching): no guess.
+    expect(counterpartIndex(specs, { name: 'kelly', fraction: 0.25 }, 1)).toBe(-1);
+    // The proposal's own method changed (a new risk aversion): compared with the method it replaces.
+    expect(counterpartIndex(specs, { name: 'mean-variance', riskAversion: 6 }, 0)).toBe(0);
   });
 
   it('a small model change is judged with a much smaller error than the unpaired one', async () => {
@@ -29,14 +36,14 @@ describe('paired (common random numbers) errors for a baseline', () => {
     const a = await stressRun(cand.proposal, cand.warnings);
     const b = await stressRun(base.proposal, base.warnings);
     for (const metric of ['turnover-from-proposal.mean', 'max-weight-sd', 'volatility-band-width'] as const) {
-      const paired = pairedStdErr(a.run, b.run, metric, 'mean-variance');
+      const paired = pairedStdErr(a.run, b.run, metric, a.run.plan.problem.methods[0]);
       const ea = metric === 'turnover-from-proposal.mean' ? a.report.methods[0].turnoverFromProposal.stdErr : metric === 'max-weight-sd' ? a.report.methods[0].maxWeightSd.stdErr : a.report.proposal.volatilityBandWidth.stdErr;
       const eb = metric === 'turnover-from-proposal.mean' ? b.report.methods[0].turnoverFromProposal.stdErr : metric === 'max-weight-sd' ? b.report.methods[0].maxWeightSd.stdErr : b.report.proposal.volatilityBandWidth.stdErr;
       expect(paired, metric).toBeDefined();
-      expect(paired as number, metric).toBeLessThan(Math.hypot(ea, eb));
+      expect(paired as number, metric).toBeLessThan(Math.hypot(ea as number, eb as number));
     }
     // The proposal's own volatility does not depend on the method's risk aversion at all: identical draws, zero error.
-    expect(pairedStdErr(a.run, b.run, 'volatility-band-width', 'mean-variance')).toBe(0);
+    expect(pairedStdErr(a.run, b.run, 'volatility-band-width', a.run.plan.problem.methods[0])).toBe(0);
   });
 
   it('checkProposal uses the paired error for maxIncrease against a baseline proposal, and says so', async () => {

@@ -27,7 +27,7 @@ describe('ScalarAccumulator', () => {
     expect(fromJson.summarize()).toEqual(expected);
     expect(expected.failedDraws).toBe(22);
     expect(expected.successfulDraws).toBe(478);
-    expect(expected.quantileErrorMethod).toBe('batch-means');
+    expect(expected.quantileErrorMethod).toBe('order-statistic');
   });
 
   it('excludes failed draws from every statistic', () => {

@@ -26,7 +26,8 @@ describe('judge', () => {
 
   it('does not fail a value beyond the threshold by less than the Monte Carlo error allows', async () => {
     const r = await report();
-    const m = r.methods[0].turnoverFromProposal;
+    const t = r.methods[0].turnoverFromProposal;
+    const m = { mean: t.mean, stdErr: t.stdErr! };
     // Threshold one standard error below the value: z(0.95) = 1.645 > 1, so the excess is within noise.
     const threshold = m.mean - m.stdErr;
     const v = judge(r, PolicySchema.parse({ confidence: 0.95, rules: [{ metric: 'turnover-from-proposal.mean', max: threshold }] }));

@@ -25,7 +25,7 @@ export const checkRoute: RouteDefinition = {
     if (!body.ok) return bodyProblem(body);
     const envelope = CheckRequestSchema.safeParse(body.value);
     if (!envelope.success) return invalid(problemsFromZod(envelope.error.issues));
-    const validation = validateProposal(envelope.data.proposal);
+    const validation = validateProposal(envelope.data.proposal, { job: 'check', maxWork: config.maxWork });
     if (!validation.ok) return invalid(validation.problems.map((p) => prefixProblem(p, 'proposal')));
     const policy = envelope.data.policy ?? validation.proposal.policy;
     if (!policy) return invalid([problem(['policy'], 'required field missing: a policy here or in proposal.policy')]);
@@ -36,7 +36,7 @@ export const checkRoute: RouteDefinition = {
         if (!resolved.ok) return invalid(resolved.problems);
         baseline = resolved.baseline;
       }
-      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, { clock, limits: config.limits }));
+      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, { clock, maxWork: config.maxWork }));
     });
   },
 };

@@ -19,8 +19,8 @@ export const optimizeRoute: RouteDefinition = {
   handle: async (c, config) => {
     const body = await readJsonBody(c.req.raw);
     if (!body.ok) return bodyProblem(body);
-    const validation = validateProposal(body.value);
+    const validation = validateProposal(body.value, { job: 'optimize', maxWork: config.maxWork });
     if (!validation.ok) return invalid(validation.problems);
-    return runCore(async () => c.json(await optimizeProposal(validation.proposal, validation.warnings, clock, config.limits)));
+    return runCore(async () => c.json(await optimizeProposal(validation.proposal, validation.warnings, { clock, maxWork: config.maxWork })));
   },
 };

@@ -41,10 +41,10 @@ export const stressRoute: RouteDefinition = {
     const format = query.data.format;
     const body = await readJsonBody(c.req.raw);
     if (!body.ok) return bodyProblem(body);
-    const validation = validateProposal(body.value);
+    const validation = validateProposal(body.value, { job: 'stress', maxWork: config.maxWork });
     if (!validation.ok) return invalid(validation.problems);
     return runCore(async () => {
-      const report = await stressProposal(validation.proposal, validation.warnings, { clock, limits: config.limits, ...shardRunOptions(c.req.raw, c.env) });
+      const report = await stressProposal(validation.proposal, validation.warnings, { clock, maxWork: config.maxWork, ...shardRunOptions(c.req.raw, c.env) });
       if (format === 'html') return c.html(renderReportHtml(report));
       if (format === 'markdown') return c.text(renderReportMarkdown(report), 200, { 'content-type': 'text/markdown; charset=utf-8' });
       return c.json(report);

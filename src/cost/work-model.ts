@@ -1,0 +1,161 @@
+import type { MethodSpec } from '../schema/proposal.js';
+import type { Job, RequestShape } from './request-shape.js';
+
+/**
+ * One work model for everything a request does, in counted operations ("units": leading-order
+ * floating-point operation counts of each step, plus memory passes where those dominate).
+ * Calibrated against measured CPU on the worst shape of each kind (`npm run bench:limits`; the
+ * table is in DEVELOPERS.md, "Request cost"): the worst measured rate is the ns per unit that
+ * LIMITS.maxWorkUnits is sized with. Pure function of the request's shape: a refusal comes
+ * before any matrix is touched and is the same on every run.
+ */
+
+/**
+ * An N×N symmetric eigendecomposition (ml-matrix: Householder tridiagonalisation then implicit
+ * QL, ~(4/3 + 6)·N³ flops with vectors, from Golub & Van Loan §8.3) plus its JS-array copies.
+ */
+export const EIGEN_UNITS_PER_N3 = 12;
+/** Parsing and checking one caller number: JSON text, zod, copies into typed arrays (measured). */
+export const UNITS_PER_INPUT_NUMBER = 60;
+/** Largest N for which a non-PSD covariance gets its exact smallest eigenvalue in the error message. */
+export const EXACT_EIGENVALUE_MAX_N = 300;
+/** Power-iteration steps for the largest eigenvalue in the PSD test (src/schema/matrix-checks.ts). */
+export const POWER_ITERATIONS = 30;
+/**
+ * Cost factor of group limits in an active-set solve: about (N + G) iterations, each testing every
+ * group row (M memberships) and updating up to min(G, N) explicit rows against N free variables.
+ * Fitted on the slowest overlapping-group shapes measured (DEVELOPERS.md).
+ */
+export const GROUP_UNITS_FACTOR = 170;
+/**
+ * A dense active-set solve on a singular covariance runs on a ridge and may use its whole
+ * iteration budget, max(200, 10·(N + G)) iterations of ~8·N² each (measured: N = 600, rank 2,
+ * 6000 iterations in ~1.5e10 units' time).
+ */
+export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 8;
+
+export const usesMean = (spec: MethodSpec): boolean => spec.name === 'mean-variance' || spec.name === 'kelly';
+
+const cube = (n: number): number => n * n * n;
+
+/** Validation: parsing, shapes, symmetry, the PSD test (two Choleskys and a power iteration). */
+export function validationUnits(s: RequestShape): number {
+  let units = UNITS_PER_INPUT_NUMBER * s.inputNumbers + 4 * s.groupMemberships + 2 * s.assetIdChars;
+  if (s.inputKind === 'dense-moments') {
+    units += s.n * s.n + (2 * cube(s.n)) / 3 + POWER_ITERATIONS * 2 * s.n * s.n;
+    if (s.n <= EXACT_EIGENVALUE_MAX_N) units += EIGEN_UNITS_PER_N3 * cube(s.n);
+  } else if (s.inputKind === 'factor-moments') {
+    units += cube(s.factors) + s.n * s.factors;
+  }
+  return units;
+}
+
+/** Turning the validated inputs into the base problem: the repair (one eigendecomposition) or the base estimate. */
+export function preparationUnits(s: RequestShape): number {
+  if (s.inputKind === 'history') return estimationUnits(s);
+  if (s.repair) return (EIGEN_UNITS_PER_N3 + 1) * cube(s.n) + s.n * s.n;
+  return s.inputKind === 'dense-moments' ? 2 * s.n * s.n : s.n * (s.factors + 1);
+}
+
+/** Re-estimating the inputs for one draw (also the base estimate of a history). */
+export function estimationUnits(s: RequestShape): number {
+  const { n, factors: k } = s;
+  if (s.inputKind === 'dense-moments') return s.scheme === 'parametric' ? cube(n) + 3 * n * n : 0;
+  if (s.inputKind === 'factor-moments') return cube(k) + 4 * n * (k + 1);
+  const t = s.rows;
+  if (s.factorModel === 'regression') return t * n * (k + 2) + cube(k) + n * k * k;
+  // Writing the N×N result dominates when T is small, so every dense estimate pays a few N² passes.
+  const covariance = (s.covarianceEstimator === 'sample' ? 1 : 2) * t * n * n + 4 * n * n;
+  if (s.factorModel === 'pca') return covariance + EIGEN_UNITS_PER_N3 * cube(n);
+  return covariance;
+}
+
+/** The explicit-row part of an active-set solve with group limits (0 without groups). */
+export function groupUnits(s: RequestShape): number {
+  if (s.groups === 0) return 0;
+  return GROUP_UNITS_FACTOR * (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
+}
+
+/** One solve of a method on dense or factor inputs. */
+export function solveUnits(spec: MethodSpec, s: RequestShape): number {
+  const { n, factors: k } = s;
+  const dense = s.inputKind !== 'factor-moments' && !(s.inputKind === 'history' && s.factorModel !== 'none');
+  // Factor QPs: Woodbury updates cost O(N·K²) per active-set change, and warm starts still make a
+  // few dozen changes at large N (measured: ~3× the dense rate per counted operation at N = 2000, K = 8).
+  const singularIterations = s.singular ? Math.max(200, 10 * (n + s.groups)) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * n * n : 0;
+  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularIterations : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s);
+  switch (spec.name) {
+    case 'mean-variance':
+    case 'minimum-variance':
+      return qp;
+    case 'kelly':
+      // Newton steps, each forming the scenario Hessian (T·N²) and solving a QP.
+      return s.scenarioKelly ? 12 * (s.rows * n * n + qp) : qp;
+    case 'risk-parity':
+      return !dense ? 10 * n * k * k : n <= 100 ? 8 * (cube(n) / 3) : 100 * n * n;
+    case 'equal-weight':
+    case 'inverse-volatility':
+      return n * (k + 1);
+  }
+}
+
+/** Per draw: the proposal's own figures (variance, risk shares, shortfall) — two products with Σ. */
+export function proposalFigureUnits(s: RequestShape): number {
+  const dense = s.inputKind !== 'factor-moments' && !(s.inputKind === 'history' && s.factorModel !== 'none');
+  return (dense ? 2 * s.n * s.n : 4 * s.n * (s.factors + 1)) + s.rows * (s.n + 8);
+}
+
+/** Summaries: sorting the stored draws for exact percentiles, batch means. */
+export function summaryUnits(s: RequestShape): number {
+  const stored = (s.methods.length + 1) * s.draws * s.n;
+  return stored * (4 + 2 * Math.log2(Math.max(2, s.draws)));
+}
+
+export interface WorkBreakdown {
+  readonly validation: number;
+  readonly preparation: number;
+  readonly baseSolves: number;
+  readonly draws: number;
+  readonly summary: number;
+  readonly total: number;
+}
+
+/** Units of one stress run (the work of `check` without a baseline proposal, and of each of its two runs with one). */
+export function stressBreakdown(s: RequestShape): WorkBreakdown {
+  const validation = validationUnits(s);
+  const preparation = preparationUnits(s) + (s.inputKind === 'history' ? 20 * s.rows * s.n : cube(s.inputKind === 'dense-moments' ? s.n : s.factors) / 3);
+  // Every method once at the base inputs, and the mean-variance reference for the certainty-equivalent score.
+  const reference: MethodSpec = { name: 'mean-variance', riskAversion: 1 };
+  let baseSolves = solveUnits(reference, s);
+  let perDraw = estimationUnits(s) + proposalFigureUnits(s);
+  for (const m of s.methods) {
+    baseSolves += solveUnits(m, s);
+    // The joint channel, plus mean-only and covariance-only re-solves for methods that read the means.
+    perDraw += (usesMean(m) ? 3 : 1) * solveUnits(m, s);
+  }
+  const draws = s.draws * perDraw;
+  const summary = summaryUnits(s);
+  return { validation, preparation, baseSolves, draws, summary, total: validation + preparation + baseSolves + draws + summary };
+}
+
+/** Units of optimize: validation, the base inputs and one solve per method — no draws, no channels. */
+export function optimizeBreakdown(s: RequestShape): WorkBreakdown {
+  const validation = validationUnits(s);
+  const preparation = preparationUnits(s);
+  const baseSolves = s.methods.reduce((total, m) => total + solveUnits(m, s), 0);
+  return { validation, preparation, baseSolves, draws: 0, summary: 0, total: validation + preparation + baseSolves };
+}
+
+/** Units of a whole request; `check` with a baseline proposal pays for both runs. */
+export function requestWork(job: Job, s: RequestShape, baseline?: RequestShape): number {
+  switch (job) {
+    case 'validate':
+      return validationUnits(s);
+    case 'optimize':
+      return optimizeBreakdown(s).total;
+    case 'stress':
+      return stressBreakdown(s).total;
+    case 'check':
+      return stressBreakdown(s).total + (baseline ? stressBreakdown(baseline).total : 0);
+  }
+}
