@@ -43,7 +43,8 @@ export async function buildJavaScript(root, outdir) {
   const cli = await build({
     ...common,
     absWorkingDir: root,
-    entryPoints: { cli: 'src/cli/main.ts' },
+    // The thread entry sits beside the chunks: threads.ts (in a chunk) loads ./range-thread.js next to itself.
+    entryPoints: { cli: 'src/cli/main.ts', 'cli-chunks/range-thread': 'src/cli/range-thread.ts' },
     outdir,
     chunkNames: 'cli-chunks/[name]-[hash]',
     platform: 'node',

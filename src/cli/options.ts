@@ -32,6 +32,9 @@ export const OPTIONS: Record<string, OptionSpec> = {
   markdown: { type: 'string', value: 'FILE', commands: REPORTING, help: 'also write the report as markdown to FILE' },
   html: { type: 'string', value: 'FILE', commands: REPORTING, help: 'also write the report as HTML to FILE' },
   table: { type: 'string', value: 'FILE', commands: REPORTING, help: 'also write the one-screen text summary to FILE' },
+  threads: { type: 'string', value: 'N', commands: ['stress', 'check'], help: 'split the draws over N worker threads (default: the available cores, at most 8, for long runs; 1 disables)' },
+  remote: { type: 'string', value: 'URL', commands: ['stress', 'check'], help: 'send ranges of draws to a deployed wobble service (token from WOBBLE_API_TOKEN) and merge them here' },
+  shards: { type: 'string', value: 'N', commands: ['stress', 'check'], help: 'number of ranges sent with --remote (default 4)' },
   junit: { type: 'string', value: 'FILE', commands: ['check', 'render'], help: 'also write the verdict as JUnit XML to FILE' },
 };
 

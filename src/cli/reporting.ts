@@ -10,6 +10,7 @@ import { classifyError } from '../stress/errors.js';
 import type { RunOptions } from '../stress/run.js';
 import { EXIT, parseJson, readInput, UsageError, writeOutput } from './io.js';
 import { stringOption, type OptionValues } from './options.js';
+import { scaleFailureExit, scaleRunner } from './scale-options.js';
 
 /** Shared by the engine-running commands (loaded only when one of them runs). */
 
@@ -69,6 +70,8 @@ export async function guarded(run: () => Promise<number>): Promise<number> {
   try {
     return await run();
   } catch (e) {
+    const scaleExit = scaleFailureExit(e);
+    if (scaleExit !== undefined) return scaleExit;
     const known = classifyError(e);
     if (!known) throw e;
     const where = known.path && known.path.length > 0 ? `${formatWhere(known.path)}: ` : '';
@@ -91,7 +94,8 @@ export function runOptions(values: OptionValues): RunOptions {
   }
   const seedText = stringOption(values, 'seed');
   const seed = seedText === undefined ? undefined : /^-?\d+$/.test(seedText) && Number.isSafeInteger(Number(seedText)) ? Number(seedText) : seedText;
-  return { draws, seed, clock: () => performance.now(), onProgress: progressBar() };
+  const drawRunner = scaleRunner({ threads: stringOption(values, 'threads'), remote: stringOption(values, 'remote'), shards: stringOption(values, 'shards') });
+  return { draws, seed, clock: () => performance.now(), onProgress: progressBar(), drawRunner };
 }
 
 /** A progress bar on stderr when it is a terminal (never in pipes or CI logs). */

@@ -7,6 +7,11 @@ import { requestWork } from './work-model.js';
 export interface CostOptions {
   /** Largest work in counted units this deployment accepts; values above LIMITS.maxWorkUnits are capped to it. */
   readonly maxWork?: number;
+  /**
+   * CPU allowances the draws are split over (shards, src/scale), each held to the work maximum, so
+   * the whole request may do this many times the work (default 1; never lowers the maximum).
+   */
+  readonly workShares?: number;
 }
 
 export interface CostVerdict {
@@ -30,7 +35,8 @@ export function priceRequest(job: Job, shape: RequestShape, options: CostOptions
   const work = requestWork(job, shape, options.baseline);
   const bytes = requestMemory(job, shape, options.baseline);
   const response = job === 'validate' ? 0 : responseBytes(job, shape);
-  const maxWork = effectiveMaxWork(options);
+  const lowered = effectiveMaxWork(options) < LIMITS.maxWorkUnits;
+  const maxWork = effectiveMaxWork(options) * Math.max(1, options.workShares ?? 1);
   const verdict = { work, bytes, responseBytes: response };
   const draws = job === 'stress' || job === 'check';
   if (work > maxWork) {
@@ -40,7 +46,7 @@ export function priceRequest(job: Job, shape: RequestShape, options: CostOptions
       over: {
         limit: 'maxWorkUnits',
         value: maxWork,
-        message: `this request needs about ${work.toExponential(2)} units of work, over the limit of ${maxWork.toExponential(1)} (maxWorkUnits${maxWork < LIMITS.maxWorkUnits ? ', lowered on this deployment' : ''}); ${fewer}fewer methods in compare, fewer assets or groups, or a factor model`,
+        message: `this request needs about ${work.toExponential(2)} units of work, over the limit of ${maxWork.toExponential(1)} (maxWorkUnits${lowered ? ', lowered on this deployment' : ''}); ${fewer}fewer methods in compare, fewer assets or groups, or a factor model`,
       },
     };
   }

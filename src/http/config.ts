@@ -1,3 +1,4 @@
+import type { ShardNamespace } from './shards.js';
 
 /**
  * What a deployment configures (wrangler.toml vars, `wrangler secret put`, bindings), read once per
@@ -19,6 +20,8 @@ export interface ServiceBindings {
   WOBBLE_MAX_WORK?: string;
   /** Requests per client per period on the /v1/* POST routes (absent: no rate limit). */
   WOBBLE_RATE_LIMITER?: RateLimitBinding;
+  /** Durable Objects that compute ranges of draws for POST /v1/stress?shards=N (src/http/shards.ts). */
+  STRESS_SHARD?: ShardNamespace;
 }
 
 export type CorsOrigins = { readonly any: true } | { readonly any: false; readonly origins: ReadonlySet<string> };

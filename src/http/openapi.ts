@@ -58,11 +58,14 @@ const PROBLEM_DESCRIPTIONS: Record<ProblemStatus, string> = {
   401: 'A bearer token is required (the deployment set WOBBLE_API_TOKEN) and none, or a wrong one, was sent.',
   404: 'No such resource.',
   405: 'The path exists but not with this method; `Allow` lists the methods it answers.',
+  409: 'The computation was cancelled (the client went away, or a Durable Object shard was told to stop).',
   413: `Over a service limit (the body over ${LIMITS.maxBodyBytes} bytes, or a count or work limit, named in \`detail\`).`,
   415: 'The body is not `application/json` (UTF-8), or its Content-Encoding is not identity, gzip or deflate.',
   422: 'Valid, but without an answer (e.g. infeasible constraints, unstable inputs, a rule needing a baseline).',
   429: 'Too many requests from this client; retry after `Retry-After` seconds.',
   500: 'A bug in the service, or a deployment whose configuration cannot be read.',
+  501: '`?shards` was asked for but the deployment has no STRESS_SHARD Durable Object binding.',
+  502: 'A shard (a range of the draws computed in a Durable Object) failed twice; `detail` names the shard and its draws. No report is built from part of the draws.',
   503: 'The deployment\'s configuration cannot be read (details in the Worker logs); the /v1/* POST routes refuse to run until it is fixed.',
 };
 

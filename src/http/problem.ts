@@ -32,11 +32,14 @@ export const PROBLEM_TITLES = {
   401: ['unauthorized', 'A valid bearer token is required'],
   404: ['not-found', 'No such resource'],
   405: ['method-not-allowed', 'Method not allowed'],
+  409: ['cancelled', 'The computation was cancelled'],
   413: ['too-large', 'The request is over a service limit'],
   415: ['unsupported-media-type', 'Send application/json'],
   422: ['unsolvable', 'The proposal is valid but cannot be solved'],
   429: ['rate-limited', 'Too many requests'],
   500: ['internal', 'Internal error'],
+  501: ['not-configured', 'Not configured on this deployment'],
+  502: ['shard-failed', 'A shard of the request failed'],
   503: ['unavailable', 'The service cannot serve requests'],
 } as const satisfies Record<number, readonly [string, string]>;
 

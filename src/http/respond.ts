@@ -2,6 +2,7 @@ import { problem, statusFor, type Problem } from '../schema/problems.js';
 import { classifyError } from '../stress/errors.js';
 import type { BodyResult } from './body.js';
 import { problemResponse, summarise } from './problem.js';
+import { shardProblem } from './shards.js';
 
 /** Helpers shared by the route handlers: problems from bodies and validation, the core's typed failures, ETags. */
 
@@ -18,6 +19,8 @@ export async function runCore(run: () => Promise<Response>): Promise<Response> {
   try {
     return await run();
   } catch (e) {
+    const sharding = shardProblem(e);
+    if (sharding) return sharding;
     const known = classifyError(e);
     if (!known) throw e;
     return problemResponse(known.status, known.detail, known.path ? { errors: [problem(known.path, known.detail, known.status === 413 ? 'limit' : 'unsolvable')] } : {});

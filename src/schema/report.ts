@@ -162,7 +162,7 @@ export const ReportMetaSchema = z.strictObject({
   failureReasons: z
     .array(z.strictObject({ method: z.string(), reason: z.string(), count: z.int() }))
     .describe('Why draws failed, counted per method (with its parameters, e.g. "kelly (fraction 0.5)") and reason: a solve that did not converge, was unbounded, or whose KKT residual exceeded the documented tolerance, or inputs that could not be estimated.'),
-  elapsedMs: z.number().describe('Wall time; the only field that varies between identical runs.'),
+  elapsedMs: z.number().describe('Wall time; with meta.threads and meta.shards the only fields that may vary between identical runs.'),
   inputDigest: z.string().describe('sha-256 (hex) of the canonical proposal JSON (keys sorted).'),
   scheme: z.enum(['stationary-bootstrap', 'iid-bootstrap', 'parametric']),
   meanBlockLength: z.number().nullable().describe('Mean block length used by the stationary bootstrap, else null.'),
@@ -174,6 +174,8 @@ export const ReportMetaSchema = z.strictObject({
   baseEstimation: z
     .record(z.string(), z.number())
     .describe('What the estimator reports for the base inputs, e.g. the Ledoit–Wolf shrinkage intensity (0 = sample matrix) or a PCA model’s explained variance share.'),
+  threads: z.int().min(1).optional().describe('Worker threads the draws were split over (CLI --threads); absent when computed in one loop. May differ between runs of the same request.'),
+  shards: z.int().min(1).optional().describe('Ranges of draws computed apart (Durable Objects for POST /v1/stress?shards=N, or a remote service for the CLI) and merged. May differ between runs of the same request.'),
 });
 
 export const VerdictRuleSchema = z.strictObject({

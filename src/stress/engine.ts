@@ -104,12 +104,15 @@ export interface StressAccumulators {
  * refused at once (413) instead of running out of CPU or memory mid-way. Returns the estimated
  * work. `baseline`: the other proposal of a check, run with the same draws.
  */
+/** Limits a deployment may lower (maxWork) and the CPU allowances a sharded request spreads over (workShares). */
+export type WorkLimits = CostOptions;
+
 export function checkLimits(job: Job, proposal: Proposal, draws: number, options: CostOptions & { baseline?: Proposal } = {}): number {
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
   const shape = requestShape(proposal, methodList(proposal), draws);
   const baseline = options.baseline ? requestShape(options.baseline, methodList(options.baseline), draws) : undefined;
-  const verdict = priceRequest(job, shape, { maxWork: options.maxWork, baseline });
+  const verdict = priceRequest(job, shape, { maxWork: options.maxWork, workShares: options.workShares, baseline });
   if (verdict.over) throw new LimitError(verdict.over.limit, verdict.over.value, verdict.over.message);
   return verdict.work;
 }
@@ -117,13 +120,13 @@ export function checkLimits(job: Job, proposal: Proposal, draws: number, options
 export function planStress(
   proposal: Proposal,
   warnings: Warning[],
-  overrides: { draws?: number; seed?: Seed; maxWork?: number } = {},
+  overrides: { draws?: number; seed?: Seed; maxWork?: number; workShares?: number } = {},
 ): StressPlan {
   const draws = overrides.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork });
+  const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork, workShares: overrides.workShares });
 
   const prepared = prepareProblem(proposal, warnings);
   const history = prepared.history;

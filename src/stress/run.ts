@@ -6,7 +6,7 @@ import { VERSION } from '../version.js';
 import { describeOptimum } from './base-optimum.js';
 import { inputDigest } from './digest.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
-import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators } from './engine.js';
+import { checkLimits, createAccumulators, mergeAccumulators, planStress, runDraws, solveBaseOptima, TooManyFailuresError, type StressAccumulators, type StressPlan } from './engine.js';
 import { prepareProblem } from './problem.js';
 import { DEFAULT_DRAWS } from '../cost/request-shape.js';
 import { assertFiniteReport } from './finite-guard.js';
@@ -35,6 +35,20 @@ export interface RunOptions {
    * operator's setting here.
    */
   readonly maxWork?: number;
+  /** Computes the draws elsewhere (worker threads, shards; src/scale) instead of in this loop. */
+  readonly drawRunner?: DrawRunner;
+}
+
+/**
+ * Computes every draw of a plan as ranges run elsewhere and merged (src/scale). The merged
+ * accumulators hold the same slots as one loop, so the report is the same apart from `record`.
+ */
+export interface DrawRunner {
+  /** How the draws were split, recorded in the report's meta (meta.threads or meta.shards). */
+  readonly record: { readonly threads?: number; readonly shards?: number };
+  /** CPU allowances the work is spread over (shards): the work budget is multiplied by this; default 1. */
+  readonly workShares?: number;
+  run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void): Promise<StressAccumulators>;
 }
 
 /** Share of draws the proposal's own method may fail in before the report is refused. */
@@ -91,8 +105,9 @@ function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions):
 export async function stressRun(proposal: Proposal, warnings: Warning[], options: RunOptions = {}): Promise<{ report: Omit<Report, 'verdict'>; run: StressRun }> {
   const clock = options.clock ?? (() => 0);
   const started = clock();
-  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, maxWork: options.maxWork });
-  const acc = computeDraws(plan, options);
+  const runner = options.drawRunner;
+  const plan = planStress(proposal, warnings, { draws: options.draws, seed: options.seed, maxWork: options.maxWork, workShares: runner?.workShares });
+  const acc = runner ? await runner.run(plan, proposal, options.onProgress) : computeDraws(plan, options);
   const own = acc.methods[0].weights.counts();
   if (own.failedDraws > MAX_FAILED_SHARE * plan.draws) {
     // Name the most frequent reason, so the caller learns why (e.g. an arbitrage among the scenarios).
@@ -110,7 +125,9 @@ export async function stressRun(proposal: Proposal, warnings: Warning[], options
     );
   }
   const digest = await inputDigest(proposal);
-  const report = assertFiniteReport(buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) }));
+  const built = buildReport(plan, acc, { version: VERSION, inputDigest: digest, elapsedMs: Math.round(clock() - started) });
+  if (runner) built.meta = { ...built.meta, ...runner.record };
+  const report = assertFiniteReport(built);
   return { report, run: { plan, acc } };
 }
 
@@ -140,6 +157,7 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     seed: candidate.run.plan.seed,
     clock: options.clock,
     maxWork: options.maxWork,
+    drawRunner: options.drawRunner,
   });
   const paired = (metric: PolicyRule['metric'], spec: MethodSpec) => pairedStdErr(candidate.run, base.run, metric, spec);
   return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) });

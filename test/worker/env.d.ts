@@ -1,4 +1,7 @@
 declare module 'cloudflare:test' {
+  interface ShardStub {
+    fetch(input: string, init?: RequestInit): Promise<Response>;
+  }
   interface RateLimit {
     limit(options: { key: string }): Promise<{ success: boolean }>;
   }
@@ -6,6 +9,7 @@ declare module 'cloudflare:test' {
   interface ProvidedEnv {
     WOBBLE_RATE_LIMITER: RateLimit;
     TIGHT_RATE_LIMITER: RateLimit;
+    STRESS_SHARD: { newUniqueId(): unknown; get(id: unknown): ShardStub };
   }
   export const SELF: { fetch(input: string | Request, init?: RequestInit): Promise<Response> };
   export const env: ProvidedEnv;

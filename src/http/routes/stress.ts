@@ -7,6 +7,7 @@ import { readJsonBody } from '../body.js';
 import { problemResponse } from '../problem.js';
 import { bodyProblem, clock, invalid, runCore } from '../respond.js';
 import type { RouteDefinition } from '../route.js';
+import { SHARDS_QUERY, shardRunOptions } from '../shards.js';
 
 /** `?format=`: the report as JSON (default), a standalone HTML page, or markdown. */
 export const ReportFormatQuerySchema = z.object({
@@ -23,7 +24,7 @@ export const stressRoute: RouteDefinition = {
   tag: 'report',
   protected: true,
   cache: 'noStore',
-  query: ReportFormatQuerySchema,
+  query: ReportFormatQuerySchema.extend(SHARDS_QUERY.shape),
   requestBody: { component: 'Proposal', description: 'The proposal: assets, weights, inputs, method, and options (resampling.draws, resampling.seed…).' },
   success: {
     description: 'The robustness report, in the requested format.',
@@ -33,7 +34,7 @@ export const stressRoute: RouteDefinition = {
       'text/markdown': { text: 'The report as markdown (with ?format=markdown).' },
     },
   },
-  problems: [400, 413, 422],
+  problems: [400, 409, 413, 422, 501, 502],
   handle: async (c, config) => {
     const query = ReportFormatQuerySchema.safeParse({ format: c.req.query('format') });
     if (!query.success) return problemResponse(400, `unknown format "${c.req.query('format')}"; expected json, html or markdown`);
@@ -43,7 +44,7 @@ export const stressRoute: RouteDefinition = {
     const validation = validateProposal(body.value, { job: 'stress', maxWork: config.maxWork });
     if (!validation.ok) return invalid(validation.problems);
     return runCore(async () => {
-      const report = await stressProposal(validation.proposal, validation.warnings, { clock, maxWork: config.maxWork });
+      const report = await stressProposal(validation.proposal, validation.warnings, { clock, maxWork: config.maxWork, ...shardRunOptions(c.req.raw, c.env) });
       if (format === 'html') return c.html(renderReportHtml(report));
       if (format === 'markdown') return c.text(renderReportMarkdown(report), 200, { 'content-type': 'text/markdown; charset=utf-8' });
       return c.json(report);

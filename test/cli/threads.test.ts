@@ -1,0 +1,37 @@
+import { spawnSync } from 'node:child_process';
+import { describe, expect, it } from 'vitest';
+import { historyProposal } from '../helpers/proposals.js';
+import { UsageError } from '../../src/cli/io.js';
+import { scaleRunner } from '../../src/cli/scale-options.js';
+import { comparable } from '../scale/helpers.js';
+
+// Runs the CLI as a user does, with the draws split over worker threads.
+const root = new URL('../..', import.meta.url).pathname;
+function wobble(args: string[], input: string) {
+  const r = spawnSync(process.execPath, ['--import', 'tsx', 'src/cli/main.ts', ...args], { cwd: root, input, encoding: 'utf8' });
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+}
+
+describe('wobble --threads', () => {
+  it('gives the same report bytes with 1 and 4 threads (and records meta.threads)', () => {
+    const input = JSON.stringify(historyProposal(60, { resampling: { draws: 60, seed: 'threads' } }));
+    const one = wobble(['stress', '-', '--threads', '1'], input);
+    const four = wobble(['stress', '-', '--threads', '4'], input);
+    expect(one.code, one.stderr).toBe(0);
+    expect(four.code, four.stderr).toBe(0);
+    const a = JSON.parse(one.stdout);
+    const b = JSON.parse(four.stdout);
+    expect(a.meta.threads).toBeUndefined();
+    expect(b.meta.threads).toBe(4);
+    expect(comparable(b)).toBe(comparable(a));
+  });
+
+  it('refuses bad combinations as usage errors (exit 2)', () => {
+    expect(() => scaleRunner({ threads: '0' })).toThrow(UsageError);
+    expect(() => scaleRunner({ shards: '3' })).toThrow(/--shards needs --remote/);
+    expect(() => scaleRunner({ remote: 'not a url' })).toThrow(/--remote must be a URL/);
+    expect(() => scaleRunner({ remote: 'https://example.invalid', threads: '2' })).toThrow(/cannot be combined/);
+    expect(() => scaleRunner({ remote: 'https://example.invalid', shards: '0' })).toThrow(/--shards must be an integer/);
+    expect(scaleRunner({ threads: '1' })).toBeUndefined();
+  });
+});
