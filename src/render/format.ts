@@ -27,6 +27,20 @@ export function formatPercentWithError(fraction: number, stdErr: number | null, 
   return `${formatPercent(fraction, decimals)} ± ${formatPercent(stdErr, decimals)}`;
 }
 
+/** Policy metrics measured in standard errors of a forecast rather than as fractions. */
+const STD_ERR_METRICS: ReadonlySet<string> = new Set(['forecast-break-even-std-errs']);
+
+/** A verdict figure in its metric's unit: `1.30 se` for break-even metrics, else a percentage. */
+export function formatRuleFigure(metric: string, value: number | null, decimals = 2): string {
+  if (!STD_ERR_METRICS.has(metric)) return formatPercent(value, decimals);
+  return value === null || !Number.isFinite(value) ? NOT_AVAILABLE : `${formatFixed(value, decimals)} se`;
+}
+
+/** A verdict value with its error in its metric's unit (see formatRuleFigure). */
+export function formatRuleValue(metric: string, value: number, stdErr: number | null, decimals = 2): string {
+  return `${formatRuleFigure(metric, value, decimals)} ± ${formatRuleFigure(metric, stdErr, decimals)}`;
+}
+
 /** A fraction in basis points (1 bp = 0.0001): 0.01234 → `123 bp`. */
 export function formatBasisPoints(fraction: number | null, decimals = 0): string {
   if (fraction === null || !Number.isFinite(fraction)) return NOT_AVAILABLE;

@@ -14,6 +14,8 @@ import {
   methodLabel,
   proposalMethod,
   trimNumber,
+  formatRuleFigure,
+  formatRuleValue,
 } from './format.js';
 import { LABELS } from './labels.js';
 import { otherFindings } from '../stress/headline.js';
@@ -236,8 +238,8 @@ function verdictSection(r: Report): string {
   const rows = v.rules.map(
     (rule) =>
       `<tr>${cell(escapeHtml(rule.id))}${cell(escapeHtml(rule.method))}${cell(escapeHtml(rule.metric))}` +
-      cell(escapeHtml(formatPercentWithError(rule.value, rule.stdErr, 2) + (rule.baselineValue === undefined ? '' : ` (baseline ${formatPercent(rule.baselineValue, 2)})`)), true) +
-      cell(escapeHtml(`${rule.kind} ${formatPercent(rule.threshold, 2)}`), true) +
+      cell(escapeHtml(formatRuleValue(rule.metric, rule.value, rule.stdErr) + (rule.baselineValue === undefined ? '' : ` (baseline ${formatRuleFigure(rule.metric, rule.baselineValue)})`)), true) +
+      cell(escapeHtml(`${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold)}`), true) +
       cell(`<span class="badge ${rule.pass ? 'pass' : 'fail'}">${rule.pass ? 'pass' : 'FAIL'}</span>`) +
       cell(escapeHtml(rule.message)) +
       '</tr>',

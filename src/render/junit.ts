@@ -1,5 +1,5 @@
 import type { Report } from '../schema/report.js';
-import { formatPercent, methodLabel } from './format.js';
+import { formatPercent, formatRuleFigure, formatRuleValue, methodLabel } from './format.js';
 
 /**
  * The verdict as JUnit XML, so a CI system shows each policy rule as a test case. There is no
@@ -88,7 +88,7 @@ export function renderVerdictJunit(r: Report): string {
         `confidence: ${v.confidence}`,
         rule.message,
       ].join('\n');
-      const message = `${rule.message} [value ${formatPercent(rule.value, 2)} ± ${formatPercent(rule.stdErr, 2)}, ${rule.kind} ${formatPercent(rule.threshold, 2)}]`;
+      const message = `${rule.message} [value ${formatRuleValue(rule.metric, rule.value, rule.stdErr)}, ${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold)}]`;
       lines.push(`${open}>`);
       lines.push(`    <failure${attributes({ message, type: `policy.${rule.kind}` })}>${escapeXml(detail, false)}</failure>`);
       lines.push('  </testcase>');

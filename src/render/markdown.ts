@@ -14,6 +14,8 @@ import {
   methodLabel,
   proposalMethod,
   trimNumber,
+  formatRuleFigure,
+  formatRuleValue,
 } from './format.js';
 import { LABELS } from './labels.js';
 import { otherFindings } from '../stress/headline.js';
@@ -278,8 +280,8 @@ function verdictSection(r: Report): string[] {
         escapeMarkdown(rule.id),
         escapeMarkdown(rule.method),
         escapeMarkdown(rule.metric),
-        formatPercentWithError(rule.value, rule.stdErr, 2) + (rule.baselineValue === undefined ? '' : ` (baseline ${formatPercent(rule.baselineValue, 2)})`),
-        `${rule.kind} ${formatPercent(rule.threshold, 2)}`,
+        formatRuleValue(rule.metric, rule.value, rule.stdErr) + (rule.baselineValue === undefined ? '' : ` (baseline ${formatRuleFigure(rule.metric, rule.baselineValue)})`),
+        `${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold)}`,
         rule.pass ? 'pass' : '**FAIL**',
         escapeMarkdown(rule.message),
       ]),

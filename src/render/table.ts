@@ -13,6 +13,8 @@ import {
   methodLabel,
   proposalMethod,
   shareStdErr,
+  formatRuleFigure,
+  formatRuleValue,
 } from './format.js';
 import { otherFindings } from '../stress/headline.js';
 
@@ -301,7 +303,7 @@ function verdictLines(r: Report): string[] {
   // Failing rules get their numbers and sentence; passing ones are listed by id to keep one screen.
   const failLines = failing.map((rule) =>
     wrap(
-      `[FAIL] ${rule.id} (${rule.method}): ${formatPercentWithError(rule.value, rule.stdErr)} vs ${rule.kind} ${formatPercent(rule.threshold)} — ${rule.message}`,
+      `[FAIL] ${rule.id} (${rule.method}): ${formatRuleValue(rule.metric, rule.value, rule.stdErr, 1)} vs ${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold, 1)} — ${rule.message}`,
       SCREEN_WIDTH,
       '  ',
       '         ',

@@ -8,6 +8,8 @@ import {
   formatPercentileRank,
   formatPercentRange,
   formatPercentWithError,
+  formatRuleFigure,
+  formatRuleValue,
   formatScientific,
   medianError,
   methodDraws,
@@ -118,5 +120,14 @@ describe('method labels and the proposal method', () => {
     const kelly = report.methods.find((m) => m.method.name === 'kelly');
     expect(kelly).toBeDefined();
     expect(methodDraws(report, kelly!)).toBe(report.meta.drawsCompleted - kelly!.failedDraws);
+  });
+});
+
+describe('verdict figures in their metric’s unit', () => {
+  it('break-even rules are in standard errors, every other metric a percentage', () => {
+    expect(formatRuleValue('forecast-break-even-std-errs', 1.3, 0)).toBe('1.30 se ± 0.00 se');
+    expect(formatRuleFigure('forecast-break-even-std-errs', 2)).toBe('2.00 se');
+    expect(formatRuleValue('turnover-from-proposal.p50', 0.123, 0.004)).toBe('12.30% ± 0.40%');
+    expect(formatRuleValue('max-weight-sd', 0.05, null)).toBe('5.00% ± n/a');
   });
 });
