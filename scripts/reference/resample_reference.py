@@ -23,6 +23,12 @@ import json
 import os
 
 import numpy as np
+
+# The project's shared reference folder sits beside the checkout (shared/reference); override with
+# WOBBLE_SHARED_REFERENCE when it lives elsewhere.
+SHARED_REFERENCE = os.environ.get(
+    "WOBBLE_SHARED_REFERENCE",
+    os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "..", "shared", "reference"))
 import scipy
 import scipy.stats as st
 import arch
@@ -96,7 +102,7 @@ def shared_block_cases():
         cases.append({"phi": phi, "n": n, "x": x,
                       "stationary": float(r["stationary"].iloc[0]),
                       "circular": float(r["circular"].iloc[0])})
-    shared = os.path.join("/work/shared/reference/block-length.json")
+    shared = os.path.join(SHARED_REFERENCE, "block-length.json")
     if os.path.exists(shared):
         with open(shared) as f:
             ref = json.load(f)["cases"]
@@ -145,7 +151,7 @@ def variance_case():
            "markovChain": float(markov_variance(x, p)),
            "iidClosedForm": float(closed_form_variance(x, 1.0)),
            "iidMarkovChain": float(markov_variance(x, 1.0))}
-    shared = "/work/shared/reference/stationary-bootstrap-variance.json"
+    shared = os.path.join(SHARED_REFERENCE, "stationary-bootstrap-variance.json")
     if os.path.exists(shared):
         with open(shared) as f:
             ref = json.load(f)

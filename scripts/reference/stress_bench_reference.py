@@ -33,9 +33,9 @@ around the 500-draw loop only; the one-off compilation is timed separately. Medi
 (the 1-minute load average before and after is recorded: other work on the 2 cores inflates both).
 
 Run from the repository root with the local wheels (see the header of the JSON for versions):
-    python3 -m venv /tmp/venv-bench
-    /tmp/venv-bench/bin/pip install --no-index --find-links /opt/pypi/files numpy scipy cvxpy threadpoolctl
-    env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE /tmp/venv-bench/bin/python scripts/reference/stress_bench_reference.py
+    python3 -m venv .venv-bench
+    .venv-bench/bin/pip install --no-index --find-links <the machine image's wheel folder> numpy scipy cvxpy threadpoolctl
+    env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE .venv-bench/bin/python scripts/reference/stress_bench_reference.py
 (OPENBLAS_CORETYPE / OPENBLAS_L2_SIZE may be set on this machine and can slow a current numpy;
 they are unset for this one command so numpy picks its own kernel, and the kernel threadpoolctl
 reports is recorded.)

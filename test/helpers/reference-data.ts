@@ -1,7 +1,7 @@
 import type { DenseRiskModel, FactorRiskModel } from '../../src/linalg/risk-model.js';
 
 /**
- * Inputs of the published check values in /work/shared/REFERENCES.md, built in one place so every
+ * Inputs of the published check values in the project's shared REFERENCES.md, built in one place so every
  * test uses the same numbers. Each builder returns fresh buffers: a test may overwrite them.
  * Tests still name the source of each expected value beside the check.
  */

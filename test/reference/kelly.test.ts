@@ -6,7 +6,7 @@ import { ex3Covariance } from '../helpers/reference-data.js';
 
 // Outside checks for the scenario Kelly solver. Values: Kelly (1956), Bell System Technical
 // Journal 35(4); Thorp (2006), "The Kelly criterion in blackjack, sports betting and the stock
-// market", ch. 9; as listed in /work/shared/REFERENCES.md ("Kelly and log utility").
+// market", ch. 9; as listed in the project's shared REFERENCES.md ("Kelly and log utility").
 
 /** Cash (return 0 in every scenario) and one bet paying +b on a win and −1 on a loss. */
 function binaryBetScenarios(b: number): Float64Array {

@@ -8,7 +8,7 @@ import type { ConstraintSet } from '../../src/optimize/types.js';
 import { constantCorrelation, denseFromVolsAndCorrelation, ex3Means, ex3Model, ex4fMeans, ex4fModel, MRT_BLOCK_CORRELATION, MRT_VOLS } from '../helpers/reference-data.js';
 
 // Outside checks for the QP-based Markowitz methods. Published / computed values are listed in
-// /work/shared/REFERENCES.md; each check names its source beside it.
+// the project's shared REFERENCES.md; each check names its source beside it.
 
 function budgetOnly(n: number): ConstraintSet {
   return { n, lower: new Float64Array(n).fill(-Infinity), upper: new Float64Array(n).fill(Infinity), budget: 1, groups: [] };

@@ -8,7 +8,7 @@ import {
 } from '../../src/optimize/risk-decomposition.js';
 import { constantCorrelation, denseFromVolsAndCorrelation, ex3Model, ex4fModel } from '../helpers/reference-data.js';
 
-// Outside checks for the risk decomposition metrics (values in /work/shared/REFERENCES.md).
+// Outside checks for the risk decomposition metrics (values in the project's shared REFERENCES.md).
 
 // EX3 of REFERENCES.md: σ = (0.15, 0.20, 0.25), correlation [[1,.3,.2],[.3,1,.4],[.2,.4,1]].
 const EX3 = ex3Model();

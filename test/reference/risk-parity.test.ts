@@ -7,7 +7,7 @@ import type { RiskParityResult } from '../../src/optimize/risk-parity.js';
 import { constantCorrelation, denseFromVolsAndCorrelation, MRT_BLOCK_CORRELATION, MRT_VOLS, parkMiller } from '../helpers/reference-data.js';
 
 // Outside checks for risk parity / risk budgeting. Published values are in
-// /work/shared/REFERENCES.md; every check names its source.
+// the project's shared REFERENCES.md; every check names its source.
 
 
 /** Volatility √(wᵀΣw) by plain loops, independent of the code under test. */
