@@ -87,16 +87,8 @@ export function findingsFor(assets: readonly string[], proposalWeights: readonly
     }
   }
   if (own?.forecastSensitivity) out.push(...breakEvenFindings(own.method.name, own.forecastSensitivity));
-  // Headline first, then the findings a reviewer acts on before the descriptive ones.
-  if (own) {
-    const fragile = out.filter((f) => f.code === 'weight-driven-by-mean-forecast').length;
-    out.unshift({
-      code: 'summary',
-      method: own.method.name,
-      message: `${own.method.name}: ${fragile} of ${assets.length} weights depend mainly on their return forecasts; overall ${pct(own.meanDrivenShare.overall)} of the weight instability comes from noise in the means, and re-optimising on resampled inputs would trade a median ${pct(own.turnoverFromProposal.p50)} of the portfolio.`,
-    });
-  }
-  const order = ['summary', 'simpler-method-loses-less', 'forecast-break-even', 'forecast-break-even-robust', 'weight-driven-by-mean-forecast', 'weight-unstable', 'position-rarely-selected', 'proposal-outside-band', 'turnover', 'proposal-volatility-band'];
+  // The headline lives in report.summary (headline.ts); here, the findings a reviewer acts on come before the descriptive ones.
+  const order = ['simpler-method-loses-less', 'forecast-break-even', 'forecast-break-even-robust', 'weight-driven-by-mean-forecast', 'weight-unstable', 'position-rarely-selected', 'proposal-outside-band', 'turnover', 'proposal-volatility-band'];
   return out.map((f, i) => [f, i] as const).sort(([a, i], [b, j]) => order.indexOf(a.code) - order.indexOf(b.code) || i - j).map(([f]) => f);
 }
 

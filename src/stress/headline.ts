@@ -209,7 +209,6 @@ export function summarise(r: ReportBody): ReportSummary {
 
 /** Finding codes whose content the headline or the per-asset notes already carry. */
 const SAID_IN_HEADLINE_OR_NOTES: ReadonlySet<string> = new Set([
-  'summary',
   'turnover',
   'proposal-volatility-band',
   'simpler-method-loses-less',

@@ -11,10 +11,13 @@ describe('findingsFor', () => {
   const r = sampleReport();
   const byName = (name: string) => r.methods.find((m) => m.method.name === name) as MethodReport;
 
-  it('puts a one-sentence summary of the proposal method first', () => {
+  it('leaves the headline to report.summary and puts the actionable findings before the descriptive ones', () => {
     const f = findingsFor(r.assets, r.proposal.weights, r.methods, r.proposal.volatility);
-    expect(f[0].code).toBe('summary');
-    expect(f[0].message).toContain(r.methods[0].method.name);
+    expect(f.some((x) => x.code === 'summary')).toBe(false);
+    const rank = (code: string) => f.findIndex((x) => x.code === code);
+    const acted = ['simpler-method-loses-less', 'forecast-break-even', 'weight-driven-by-mean-forecast'].map(rank).filter((i) => i >= 0);
+    const described = ['turnover', 'proposal-volatility-band'].map(rank).filter((i) => i >= 0);
+    for (const a of acted) for (const d of described) expect(a).toBeLessThan(d);
   });
 
   it('names a simpler method only when it loses clearly less (beyond 2 standard errors) and it ignores the forecasts', () => {
