@@ -12,13 +12,16 @@ import type { ThreadMessage } from './range-thread.js';
 export const MAX_DEFAULT_THREADS = 8;
 
 /**
- * Below this estimated work (work units, ~1 ns each on the reference machine: about a second of
- * CPU) the default splits nothing: starting a thread and re-planning in it costs more than it saves.
- * From TypeScript sources every thread also starts tsx and compiles the core (seconds), so there
- * the default waits for ten times as much work. An explicit --threads N always splits.
+ * Below this estimated work the default splits nothing: starting a thread and re-planning in it
+ * costs more than it saves. The work model prices worst cases (src/cost), so typical requests run
+ * at 0.3–1 ns per counted unit: the demo at 500 draws is priced 1.9e9 units and takes 0.65 s in
+ * one thread, and was slower with 2 threads (1.8 s wall against 1.1 s, measured on the 2-core
+ * development machine). 1e10 units is a few seconds of single-thread CPU, where two threads pay
+ * off. From TypeScript sources every thread also starts tsx and compiles the core (seconds), so
+ * there the default waits for ten times as much. An explicit --threads N always splits.
  */
-export const AUTO_THREADS_MIN_WORK = 1e9;
-export const AUTO_THREADS_MIN_WORK_FROM_SOURCES = 1e10;
+export const AUTO_THREADS_MIN_WORK = 1e10;
+export const AUTO_THREADS_MIN_WORK_FROM_SOURCES = 1e11;
 
 function automaticMinWork(): number {
   return import.meta.url.endsWith('.ts') ? AUTO_THREADS_MIN_WORK_FROM_SOURCES : AUTO_THREADS_MIN_WORK;
