@@ -1,4 +1,5 @@
 import type { MethodReport, Report, Stat } from '../schema/report.js';
+import { canonicalJson } from '../schema/canonical-json.js';
 import type { MethodSpec } from '../schema/proposal.js';
 
 /**
@@ -105,17 +106,6 @@ export function trimNumber(value: number): string {
   return String(Number(value.toPrecision(6)));
 }
 
-/** Canonical JSON (keys sorted) so two specs written in a different key order compare equal. */
-function canonicalJson(value: unknown): string {
-  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
-  if (value !== null && typeof value === 'object') {
-    const entries = Object.entries(value as Record<string, unknown>)
-      .filter(([, v]) => v !== undefined)
-      .sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
-    return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${canonicalJson(v)}`).join(',')}}`;
-  }
-  return JSON.stringify(value);
-}
 
 /**
  * The method section that re-optimised the proposal's own method: the exact spec if present,

@@ -17,7 +17,7 @@ import {
   formatRuleFigure,
   formatRuleValue,
 } from './format.js';
-import { LABELS } from './labels.js';
+import { LABELS, METHOD_STABILITY_COLUMNS } from './labels.js';
 import { otherFindings } from '../stress/headline.js';
 
 /**
@@ -356,18 +356,7 @@ function comparisonSection(r: Report, pm: MethodReport | undefined): string {
       'in basis points per year (DeMiguel, Garlappi &amp; Uppal 2009). ± se is the Monte Carlo standard error; † marks a median shown with the error of the mean because the report carries no separate median error.</p>',
     htmlTable(
       'Stability of each method under resampling',
-      [
-        'Method',
-        `${LABELS.turnoverFromProposalP50} ± se`,
-        `${LABELS.turnoverFromProposal}, p05 – p95`,
-        `${LABELS.turnoverFromBase}, p50 ± se`,
-        `${LABELS.volatility}, p05 – p95`,
-        `${LABELS.certaintyEquivalentLoss}, mean ± se`,
-        `${LABELS.meanDrivenShare} ± se`,
-        `${LABELS.outsideBandShare} ± se`,
-        `${LABELS.maxWeightSd} ± se`,
-        'Failed draws',
-      ],
+      [...METHOD_STABILITY_COLUMNS],
       rows,
     ),
     '</section>',

@@ -35,6 +35,20 @@ export const LABELS = {
   stdErr: '± se',
 } as const;
 
+/** Column headings of the per-method stability table, shared by the HTML and markdown reports. */
+export const METHOD_STABILITY_COLUMNS: readonly string[] = [
+  'Method',
+  `${LABELS.turnoverFromProposalP50} ± se`,
+  `${LABELS.turnoverFromProposal}, p05 – p95`,
+  `${LABELS.turnoverFromBase}, p50 ± se`,
+  `${LABELS.volatility}, p05 – p95`,
+  `${LABELS.certaintyEquivalentLoss}, mean ± se`,
+  `${LABELS.meanDrivenShare} ± se`,
+  `${LABELS.outsideBandShare} ± se`,
+  `${LABELS.maxWeightSd} ± se`,
+  'Failed draws',
+];
+
 export const FIGURES: readonly Figure[] = [
   { key: 'turnoverFromProposalP50', json: 'methods[k].turnoverFromProposal.p50 (± p50StdErr)', metric: 'turnover-from-proposal.p50' },
   { key: 'turnoverFromProposalMean', json: 'methods[k].turnoverFromProposal.mean (± stdErr)', metric: 'turnover-from-proposal.mean' },

@@ -1,6 +1,6 @@
 import type { MethodSpec, PolicyRule } from '../schema/proposal.js';
 import { jackknifeStdErr, orderStatisticStdErr, quantileCorrelation, stridedMoments } from './batch-means.js';
-import { canonicalJson } from './digest.js';
+import { canonicalJson } from '../schema/canonical-json.js';
 import type { StressAccumulators, StressPlan } from './engine.js';
 import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShareReplicates } from './stability.js';

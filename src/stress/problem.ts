@@ -1,4 +1,5 @@
 import { RISKMETRICS_DAILY_DECAY } from '../estimate/ewma.js';
+import { canonicalJson } from '../schema/canonical-json.js';
 import { returnHistoryFromRows } from '../estimate/history.js';
 import { nearestPsd } from '../estimate/psd.js';
 import { choleskyDecompose } from '../linalg/dense.js';
@@ -79,17 +80,6 @@ export function canonicalSpec(spec: MethodSpec): string {
     return canonicalJson({ name: spec.name, riskAversion: spec.riskAversion.factor });
   }
   return canonicalJson(spec);
-}
-
-function canonicalJson(value: unknown): string {
-  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
-  if (value !== null && typeof value === 'object') {
-    const entries = Object.entries(value as Record<string, unknown>)
-      .filter(([, v]) => v !== undefined)
-      .sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
-    return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${canonicalJson(v)}`).join(',')}}`;
-  }
-  return JSON.stringify(value);
 }
 
 export function methodList(proposal: Proposal): MethodSpec[] {
