@@ -1,5 +1,4 @@
 import { readFileSync } from 'node:fs';
-import { createRequire } from 'node:module';
 import { Matrix, inverse } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import type { FactorRiskModel, RiskModel } from '../../src/linalg/risk-model.js';
@@ -13,42 +12,10 @@ import { meanVariance, meanVarianceProblem, type RiskAversion } from '../../src/
 import { solveQp, type QpProblem } from '../../src/optimize/qp.js';
 import type { ConstraintSet } from '../../src/optimize/types.js';
 import { ex3Means, ex3Model, ex4fMeans, ex4fModel, parkMiller } from '../helpers/reference-data.js';
+import { solveWithQuadprog } from '../helpers/quadprog.js';
 
 // Outside checks of the break-even forecast shifts (src/optimize/forecast-sensitivity-*.ts).
 // Sources are named beside each check.
-
-interface QuadprogModule {
-  solveQP(dmat: number[][], dvec: number[], amat: number[][], bvec: number[], meq: number): { solution: number[]; message: string };
-}
-// The npm package `quadprog` 1.6.1 (package.json devDependency): Turlach's R quadprog, the dual
-// method of Goldfarb & Idnani (1983, Mathematical Programming 27) — an independent, exact
-// active-set solver.
-const quadprog = createRequire(import.meta.url)('quadprog') as QuadprogModule;
-
-function quadprogSolve(problem: QpProblem, denseH: Float64Array): Float64Array {
-  const { n, lower, upper, budget, groups } = problem.constraints;
-  const dmat: number[][] = [[]];
-  const dvec: number[] = [0];
-  for (let i = 1; i <= n; i++) {
-    dmat.push([0, ...Array.from(denseH.subarray((i - 1) * n, i * n))]);
-    dvec.push(problem.linear[i - 1]);
-  }
-  const columns: { a: number[]; b: number }[] = [{ a: new Array<number>(n).fill(1), b: budget }];
-  for (let i = 0; i < n; i++) {
-    if (lower[i] > -Infinity) columns.push({ a: Array.from({ length: n }, (_, j) => (j === i ? 1 : 0)), b: lower[i] });
-    if (upper[i] < Infinity) columns.push({ a: Array.from({ length: n }, (_, j) => (j === i ? -1 : 0)), b: -upper[i] });
-  }
-  for (const g of groups) {
-    const ind = Array.from({ length: n }, (_, j) => (g.members.includes(j) ? 1 : 0));
-    if (g.min > -Infinity) columns.push({ a: ind, b: g.min });
-    if (g.max < Infinity) columns.push({ a: ind.map((v) => -v), b: -g.max });
-  }
-  const amat: number[][] = [[]];
-  for (let i = 1; i <= n; i++) amat.push([0, ...columns.map((c) => c.a[i - 1])]);
-  const result = quadprog.solveQP(dmat, dvec, amat, [0, ...columns.map((c) => c.b)], 1);
-  if (result.message) throw new Error(`quadprog: ${result.message}`);
-  return Float64Array.from(result.solution.slice(1));
-}
 
 function shifted(problem: QpProblem, i: number, t: number): QpProblem {
   const linear = Float64Array.from(problem.linear);
@@ -192,8 +159,8 @@ describe('break-even shifts against quadprog (Goldfarb & Idnani 1983), tight on 
           [-1, r.down, r.changesDown],
         ] as const) {
           if (t === null) continue;
-          const below = quadprogSolve(shifted(problem, i, sign * (1 - 1e-4) * t), h);
-          const past = quadprogSolve(shifted(problem, i, sign * (1 + 1e-4) * t), h);
+          const below = solveWithQuadprog(shifted(problem, i, sign * (1 - 1e-4) * t), h);
+          const past = solveWithQuadprog(shifted(problem, i, sign * (1 + 1e-4) * t), h);
           expect(samePattern(patternOf(problem.constraints, below), base), `asset ${i} ${sign > 0 ? 'up' : 'down'} below`).toBe(true);
           const after = patternOf(problem.constraints, past);
           expect(samePattern(after, base)).toBe(false);
@@ -212,7 +179,7 @@ describe('break-even shifts against quadprog (Goldfarb & Idnani 1983), tight on 
         // Up to 2 % a month: past several breakpoints for most assets here.
         for (const t of [0.005, -0.005, 0.02, -0.02]) {
           const ours = sensitivity.weightsAt(i, t, r);
-          const theirs = quadprogSolve(shifted(problem, i, t), h);
+          const theirs = solveWithQuadprog(shifted(problem, i, t), h);
           expect(maxAbsDiff(ours, theirs)).toBeLessThan(1e-9);
           expect(Math.abs(oneWayTurnover(ours, x) - oneWayTurnover(theirs, x))).toBeLessThan(1e-9);
         }

@@ -1,4 +1,3 @@
-import { createRequire } from 'node:module';
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import type { FactorRiskModel } from '../../src/linalg/risk-model.js';
@@ -6,56 +5,12 @@ import { toDenseCovariance } from '../../src/linalg/risk-ops.js';
 import { kktReport, qpObjective } from '../../src/optimize/kkt.js';
 import { solveQp, QpWorkspace, type QpProblem, type QpWarmStart } from '../../src/optimize/qp.js';
 import type { ConstraintSet, GroupConstraint } from '../../src/optimize/types.js';
+import { solveWithQuadprog } from '../helpers/quadprog.js';
 
-// Independent reference solver: the npm package `quadprog` (a port of Turlach's R quadprog, the
-// dual method of Goldfarb & Idnani 1983, Mathematical Programming 27). It solves
-// min −dᵀb + ½bᵀDb s.t. Aᵀb ≥ b0 (first meq rows equalities) with 1-indexed arrays.
+// Independent reference solver: quadprog (Goldfarb & Idnani 1983; see test/helpers/quadprog.ts).
 // Goldfarb–Idnani needs D positive definite and stumbles on degenerate (dependent) active
 // constraints, so equality groups and fixed assets are exercised against the KKT checker in
 // test/optimize/qp.test.ts instead of here.
-
-interface QuadprogResult {
-  solution: number[];
-  value: number[];
-  message: string;
-}
-interface QuadprogModule {
-  solveQP(dmat: number[][], dvec: number[], amat: number[][], bvec: number[], meq: number): QuadprogResult;
-}
-const quadprog = createRequire(import.meta.url)('quadprog') as QuadprogModule;
-
-/** Solves the same QP with quadprog (H given dense). */
-function solveWithQuadprog(problem: QpProblem, denseH: Float64Array): Float64Array {
-  const { n, lower, upper, budget, groups } = problem.constraints;
-  const dmat: number[][] = [[]];
-  const dvec: number[] = [0];
-  for (let i = 1; i <= n; i++) {
-    dmat.push([0, ...Array.from(denseH.subarray((i - 1) * n, i * n))]);
-    dvec.push(problem.linear[i - 1]);
-  }
-  const columns: { a: Float64Array; b: number }[] = [{ a: new Float64Array(n).fill(1), b: budget }];
-  for (let i = 0; i < n; i++) {
-    if (lower[i] > -Infinity) columns.push({ a: unit(n, i, 1), b: lower[i] });
-    if (upper[i] < Infinity) columns.push({ a: unit(n, i, -1), b: -upper[i] });
-  }
-  for (const g of groups) {
-    const ind = new Float64Array(n);
-    for (const i of g.members) ind[i] = 1;
-    if (g.min > -Infinity) columns.push({ a: ind, b: g.min });
-    if (g.max < Infinity) columns.push({ a: ind.map((v) => -v), b: -g.max });
-  }
-  const amat: number[][] = [[]];
-  for (let i = 1; i <= n; i++) amat.push([0, ...columns.map((c) => c.a[i - 1])]);
-  const result = quadprog.solveQP(dmat, dvec, amat, [0, ...columns.map((c) => c.b)], 1);
-  if (result.message) throw new Error(`quadprog: ${result.message}`);
-  return Float64Array.from(result.solution.slice(1));
-}
-
-function unit(n: number, i: number, v: number): Float64Array {
-  const e = new Float64Array(n);
-  e[i] = v;
-  return e;
-}
 
 interface Generated {
   problem: QpProblem;
