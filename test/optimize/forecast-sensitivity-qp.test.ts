@@ -39,21 +39,26 @@ const problemArbitrary = fc
     }),
   );
 
+/** The dense problem an arbitrary draw describes: long-only, a common cap, an optional group maximum. */
+function denseCase(a: { n: number; entries: number[]; diag: number[]; mean: number[]; cap: number; groupSize: number; groupMax: number }): { model: DenseRiskModel; mean: Float64Array; constraints: ConstraintSet } {
+  const n = a.n;
+  const constraints: ConstraintSet = {
+    n,
+    lower: new Float64Array(n),
+    upper: new Float64Array(n).fill(a.cap),
+    budget: 1,
+    groups: a.groupSize > 0 ? [{ name: 'g', members: Int32Array.from({ length: a.groupSize }, (_, i) => i), min: -Infinity, max: Math.max(a.groupMax, 0) }] : [],
+  };
+  return { model: { kind: 'dense', n, cov: covarianceFrom(n, a.entries, a.diag) }, mean: Float64Array.from(a.mean), constraints };
+}
+
 describe('QpForecastSensitivity', () => {
   it('property: shifting a forecast by less than its reported break-even never changes the active pattern, and the optimum there is the linear prediction', () => {
     let tested = 0;
     fc.assert(
       fc.property(problemArbitrary, (a) => {
         const n = a.n;
-        const model: DenseRiskModel = { kind: 'dense', n, cov: covarianceFrom(n, a.entries, a.diag) };
-        const constraints: ConstraintSet = {
-          n,
-          lower: new Float64Array(n),
-          upper: new Float64Array(n).fill(a.cap),
-          budget: 1,
-          groups: a.groupSize > 0 ? [{ name: 'g', members: Int32Array.from({ length: a.groupSize }, (_, i) => i), min: -Infinity, max: Math.max(a.groupMax, 0) }] : [],
-        };
-        const mean = Float64Array.from(a.mean);
+        const { model, mean, constraints } = denseCase(a);
         let base;
         try {
           base = meanVariance(model, mean, constraints, a.riskAversion);
@@ -88,15 +93,7 @@ describe('QpForecastSensitivity', () => {
     fc.assert(
       fc.property(problemArbitrary, fc.double({ min: 1.01, max: 30, noNaN: true }), (a, beyond) => {
         const n = a.n;
-        const model: DenseRiskModel = { kind: 'dense', n, cov: covarianceFrom(n, a.entries, a.diag) };
-        const constraints: ConstraintSet = {
-          n,
-          lower: new Float64Array(n),
-          upper: new Float64Array(n).fill(a.cap),
-          budget: 1,
-          groups: a.groupSize > 0 ? [{ name: 'g', members: Int32Array.from({ length: a.groupSize }, (_, i) => i), min: -Infinity, max: Math.max(a.groupMax, 0) }] : [],
-        };
-        const mean = Float64Array.from(a.mean);
+        const { model, mean, constraints } = denseCase(a);
         let base;
         try {
           base = meanVariance(model, mean, constraints, a.riskAversion);
