@@ -1,4 +1,4 @@
-"""Reference values for the stress statistics layer (src/stress/quantiles.ts, batch-means.ts,
+"""Reference values for the stress statistics layer (src/statistics/quantiles.ts, batch-means.ts,
 weight-accumulator.ts, channel-variance.ts, scalar-accumulator.ts).
 
 Writes test/reference/fixtures/statistics.json with:
@@ -6,7 +6,7 @@ Writes test/reference/fixtures/statistics.json with:
                   percentile) on deterministic samples, including ties, constants, n = 1 and 2
   midRanks        scipy.stats.percentileofscore(kind='mean') — the mid-rank percentile
   moments         mean and sample sd (numpy, ddof=1) and sd/sqrt(n)
-  batchMeans      Monte Carlo errors computed the documented way (src/stress/batch-means.ts):
+  batchMeans      Monte Carlo errors computed the documented way (src/statistics/batch-means.ts):
                   percentiles by the order-statistic interval s*(Q(q+z s) - Q(q-z s))/(hi-lo),
                   s = sqrt(q(1-q)/n), with numpy.quantile; band widths with the asymptotic
                   quantile correlation; sds by the delta method; failed draws (NaN) excluded

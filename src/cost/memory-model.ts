@@ -1,5 +1,5 @@
-import { ChannelVarianceAccumulator } from '../stress/channel-variance.js';
-import { storedValues } from '../stress/weight-accumulator.js';
+import { ChannelVarianceAccumulator } from '../statistics/channel-variance.js';
+import { storedValues } from '../statistics/weight-accumulator.js';
 import type { Job, RequestShape } from './request-shape.js';
 import { EXACT_EIGENVALUE_MAX_N } from './work-model.js';
 

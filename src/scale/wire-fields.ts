@@ -1,8 +1,8 @@
-import { batchOfDraw } from '../stress/batch-means.js';
-import { ChannelVarianceAccumulator, type ChannelVarianceState } from '../stress/channel-variance.js';
+import { batchOfDraw } from '../statistics/batch-means.js';
+import { ChannelVarianceAccumulator, type ChannelVarianceState } from '../statistics/channel-variance.js';
 import type { StressAccumulators } from '../stress/engine.js';
-import type { ScalarAccumulator } from '../stress/scalar-accumulator.js';
-import type { WeightAccumulator } from '../stress/weight-accumulator.js';
+import type { ScalarAccumulator } from '../statistics/scalar-accumulator.js';
+import type { WeightAccumulator } from '../statistics/weight-accumulator.js';
 
 /**
  * What a partial result carries, field by field. Each accumulator of the engine is one line in

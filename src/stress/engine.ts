@@ -19,14 +19,14 @@ import { createDrawStream, STREAM_PURPOSE, type Seed } from '../resample/streams
 import { LIMITS } from '../schema/limits.js';
 import type { Proposal } from '../schema/proposal.js';
 import type { Warning } from '../schema/validate.js';
-import { ChannelVarianceAccumulator } from './channel-variance.js';
+import { ChannelVarianceAccumulator } from '../statistics/channel-variance.js';
 import { estimateFromHistory } from './estimate-inputs.js';
 import type { MethodSolver, SolveInputs } from './method-interface.js';
 import { createMethodSolver, solveReferenceMeanVariance } from './method-solvers.js';
 import { methodList, prepareProblem, type PreparedProblem } from './problem.js';
-import { ScalarAccumulator } from './scalar-accumulator.js';
+import { ScalarAccumulator } from '../statistics/scalar-accumulator.js';
 import { difference, expectedShortfall, shiftedRows } from './scenarios.js';
-import { WeightAccumulator } from './weight-accumulator.js';
+import { WeightAccumulator } from '../statistics/weight-accumulator.js';
 import { effectiveMaxWork, priceRequest, type CostOptions } from '../cost/check.js';
 import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
 import { degenerateInputWarnings } from './degenerate-inputs.js';

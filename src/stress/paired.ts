@@ -1,9 +1,9 @@
 import type { MethodSpec, PolicyRule } from '../schema/proposal.js';
-import { jackknifeStdErr, orderStatisticStdErr, quantileCorrelation, stridedMoments } from './batch-means.js';
+import { jackknifeStdErr, orderStatisticStdErr, quantileCorrelation, stridedMoments } from '../statistics/batch-means.js';
 import { canonicalJson } from '../schema/canonical-json.js';
 import type { StressAccumulators, StressPlan } from './engine.js';
-import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
-import { BAND_EDGE_TOLERANCE, outsideBandShareReplicates } from './stability.js';
+import { gatherFiniteSorted, quantileSorted } from '../statistics/quantiles.js';
+import { BAND_EDGE_TOLERANCE, outsideBandShareReplicates } from '../statistics/stability.js';
 
 /** A finished stress run with its per-draw data, for paired comparisons. */
 export interface StressRun {

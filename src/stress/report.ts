@@ -2,7 +2,7 @@ import { annualiseMean, annualiseVolatility } from '../estimate/annualise.js';
 import { decomposeRisk } from '../optimize/risk-decomposition.js';
 import { CAUTIONS } from '../schema/cautions.js';
 import type { MethodReport, Report, Stat } from '../schema/report.js';
-import { MONTE_CARLO_ERROR_DESCRIPTION } from './batch-means.js';
+import { MONTE_CARLO_ERROR_DESCRIPTION } from '../statistics/batch-means.js';
 import { describeOptimum, clean, cleanArray } from './base-optimum.js';
 import { SHORTFALL_LEVEL, type StressAccumulators, type StressPlan } from './engine.js';
 import { expectedShortfall } from './scenarios.js';
@@ -11,9 +11,9 @@ import { methodKey } from './method-key.js';
 export { methodKey } from './method-key.js';
 import { forecastSensitivityTables } from './forecast-sensitivity.js';
 import { summarise } from './headline.js';
-import { PERCENTILE_DEFINITION } from './quantiles.js';
-import type { ScalarSummary } from './scalar-accumulator.js';
-import { BAND_EDGE_TOLERANCE, outsideBandShare } from './stability.js';
+import { PERCENTILE_DEFINITION } from '../statistics/quantiles.js';
+import type { ScalarSummary } from '../statistics/scalar-accumulator.js';
+import { BAND_EDGE_TOLERANCE, outsideBandShare } from '../statistics/stability.js';
 
 
 /** A finite number for the report; NaN (no successful draw) becomes 0 — only for figures of a method the report warns about ('method-not-estimable'). */

@@ -1,7 +1,7 @@
 import type { MethodName, MethodSpec, Policy, PolicyRule } from '../schema/proposal.js';
 import { counterpartIndex } from './paired.js';
 import type { Report, Verdict } from '../schema/report.js';
-import { normalQuantile } from './normal-quantile.js';
+import { normalQuantile } from '../statistics/normal-quantile.js';
 
 /** A report figure with its Monte Carlo standard error. */
 export interface MetricEstimate {

@@ -1,11 +1,11 @@
 import { readFileSync } from 'node:fs';
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
-import { createQuantileErrorWorkspace, quantileStdErrs, stridedMoments } from '../../src/stress/batch-means.js';
-import { ChannelVarianceAccumulator } from '../../src/stress/channel-variance.js';
-import { midRankPercentileSorted, quantileSorted } from '../../src/stress/quantiles.js';
-import { ScalarAccumulator } from '../../src/stress/scalar-accumulator.js';
-import { WeightAccumulator } from '../../src/stress/weight-accumulator.js';
+import { createQuantileErrorWorkspace, quantileStdErrs, stridedMoments } from '../../src/statistics/batch-means.js';
+import { ChannelVarianceAccumulator } from '../../src/statistics/channel-variance.js';
+import { midRankPercentileSorted, quantileSorted } from '../../src/statistics/quantiles.js';
+import { ScalarAccumulator } from '../../src/statistics/scalar-accumulator.js';
+import { WeightAccumulator } from '../../src/statistics/weight-accumulator.js';
 
 // Fixture: scripts/reference/statistics_reference.py — numpy.quantile(method='linear')
 // (Hyndman & Fan 1996, type 7; numpy's default percentile), numpy.std(ddof=1),

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { normalQuantile } from '../../src/stress/normal-quantile.js';
+import { normalQuantile } from '../../src/statistics/normal-quantile.js';
 
 describe('normalQuantile', () => {
   it('matches standard table values', () => {

@@ -6,7 +6,7 @@ import {
   PERCENTILE_DEFINITION,
   quantileSorted,
   quantilesOfStrided,
-} from '../../src/stress/quantiles.js';
+} from '../../src/statistics/quantiles.js';
 
 // Definition: Hyndman & Fan (1996), The American Statistician 50(4), type 7 (numpy 'linear');
 // numpy agreement itself is checked in test/reference/statistics.test.ts.

@@ -1,6 +1,6 @@
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
-import { ChannelVarianceAccumulator } from '../../src/stress/channel-variance.js';
+import { ChannelVarianceAccumulator } from '../../src/statistics/channel-variance.js';
 import { shuffledIndices } from '../helpers/draw-order.js';
 
 // meanDrivenShare_i = Var_mean(w_i)/(Var_mean(w_i) + Var_cov(w_i)) as specified in the design;

@@ -13,7 +13,7 @@ import {
   quantileWidthStdErr,
   stdErrOfBatchStatistics,
   stridedMoments,
-} from '../../src/stress/batch-means.js';
+} from '../../src/statistics/batch-means.js';
 
 // Batch means: Schmeiser (1982), Operations Research 30(3); m = min(30, ⌊B/10⌋) is the project's
 // documented choice (common practice: 20–50 batches when B allows). Numbers vs numpy are in

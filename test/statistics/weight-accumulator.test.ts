@@ -1,6 +1,6 @@
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
-import { DEFAULT_SELECTION_THRESHOLD, storedValues, WeightAccumulator } from '../../src/stress/weight-accumulator.js';
+import { DEFAULT_SELECTION_THRESHOLD, storedValues, WeightAccumulator } from '../../src/statistics/weight-accumulator.js';
 import { shuffledIndices } from '../helpers/draw-order.js';
 
 // Order independence and merging are design requirements; the band statistics are checked

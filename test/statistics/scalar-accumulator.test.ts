@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { ScalarAccumulator } from '../../src/stress/scalar-accumulator.js';
+import { ScalarAccumulator } from '../../src/statistics/scalar-accumulator.js';
 import { shuffledIndices } from '../helpers/draw-order.js';
 
 // Order independence and merging are design requirements (draw b's slot is b); the statistics
