@@ -75,7 +75,7 @@ export async function computeRange(request: RangeRequest, options: RangeComputeO
     maxWork: options.limits?.maxWork,
     workShares: rangeWorkShares(request),
   });
-  const acc = createAccumulators(plan);
+  const acc = createAccumulators(plan, { start: request.start, end: request.end });
   const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;
   for (let from = request.start; from < request.end; from += chunk) {
     if (options.cancelled?.()) throw new RangeCancelledError(`cancelled after ${from - request.start} of ${request.end - request.start} draws`);

@@ -71,6 +71,15 @@ function field<T>(name: string, select: (acc: StressAccumulators) => readonly T[
   };
 }
 
+/** Where the range's first draw sits in an accumulator that may hold only a range of slots. */
+function slotOffset(accumulator: { firstDraw: number; slotCount: number }, shape: WireShape, what: string): number {
+  const offset = shape.start - accumulator.firstDraw;
+  if (offset < 0 || shape.end - accumulator.firstDraw > accumulator.slotCount) {
+    throw new Error(`${what}: holds draws ${accumulator.firstDraw}..${accumulator.firstDraw + accumulator.slotCount - 1}, not the range ${shape.start}..${shape.end - 1}`);
+  }
+  return offset;
+}
+
 function requireWholeRange(recorded: number, shape: WireShape, what: string): void {
   // Every draw of the range records every accumulator (a failure as NaN): the wire form relies on it.
   if (recorded !== shape.end - shape.start) {
@@ -83,7 +92,8 @@ const scalarSlots: Codec<ScalarAccumulator> = {
   size: (_a, s) => ({ f64: s.end - s.start, u8: 0 }),
   write(a, s, c) {
     requireWholeRange(a.counts().recordedDraws, s, 'scalar accumulator');
-    c.f64.set(a.slots().subarray(s.start, s.end), c.f64At);
+    const at = slotOffset(a, s, 'scalar accumulator');
+    c.f64.set(a.slots().subarray(at, at + s.end - s.start), c.f64At);
     c.f64At += s.end - s.start;
   },
   read(target, s, c) {
@@ -98,7 +108,8 @@ const weightRows: Codec<WeightAccumulator> = {
   write(a, s, c) {
     requireWholeRange(a.counts().recordedDraws, s, 'weight accumulator');
     const n = a.assets;
-    c.f64.set(a.rows().subarray(s.start * n, s.end * n), c.f64At);
+    const at = slotOffset(a, s, 'weight accumulator');
+    c.f64.set(a.rows().subarray(at * n, (at + s.end - s.start) * n), c.f64At);
     c.f64At += (s.end - s.start) * n;
   },
   read(target, s, c) {

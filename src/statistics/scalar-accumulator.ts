@@ -35,14 +35,39 @@ export function checkAssetCount(assets: number): void {
   if (!Number.isInteger(assets) || assets < 1) throw new RangeError(`asset count must be a positive integer, got ${assets}`);
 }
 
-/** Copies source's recorded slots into target's status; throws if a slot is recorded in both. */
-export function mergeDrawStatus(target: Uint8Array, source: Uint8Array): void {
-  if (target.length !== source.length) throw new RangeError('cannot merge accumulators of different sizes');
+/**
+ * Checks that source's recorded slots are free in target, source slot b lining up with target
+ * slot `offset` + b (the two may hold different ranges of draws); throws if a slot is recorded in
+ * both. Without an offset the two must be the same size.
+ */
+export function mergeDrawStatus(target: Uint8Array, source: Uint8Array, offset?: number): void {
+  if (offset === undefined && target.length !== source.length) throw new RangeError('cannot merge accumulators of different sizes');
+  const at = offset ?? 0;
+  if (at < 0 || at + source.length > target.length) throw new RangeError('cannot merge: the source range lies outside the target range');
   for (let b = 0; b < source.length; b++) {
-    if (source[b] !== DRAW_NOT_RECORDED && target[b] !== DRAW_NOT_RECORDED) {
+    if (source[b] !== DRAW_NOT_RECORDED && target[at + b] !== DRAW_NOT_RECORDED) {
       throw new Error(`draw ${b} recorded in both accumulators (merge needs disjoint draw ranges)`);
     }
   }
+}
+
+/**
+ * The draws [start, end) an accumulator holds slots for, out of the request's `draws`. A range
+ * computed apart (a thread, a shard) allocates end − start slots, not a whole run's B.
+ */
+export interface SlotRange {
+  readonly start: number;
+  readonly end: number;
+}
+
+/** Throws unless 0 ≤ start < end ≤ draws are integers; returns the range (whole request when omitted). */
+export function checkSlotRange(draws: number, range: SlotRange | undefined): SlotRange {
+  if (!range) return { start: 0, end: draws };
+  const { start, end } = range;
+  if (!Number.isInteger(start) || !Number.isInteger(end) || start < 0 || end <= start || end > draws) {
+    throw new RangeError(`slot range [${start}, ${end}) must satisfy 0 ≤ start < end ≤ ${draws}`);
+  }
+  return { start, end };
 }
 
 /** Counts of recorded, successful and failed draws in a status array. */
@@ -84,6 +109,9 @@ export interface ScalarSummary extends DrawCounts {
 /** JSON-safe state: values hold 0 in slots that did not succeed (status tells which). */
 export interface ScalarAccumulatorState {
   readonly draws: number;
+  /** First draw of the slots (0 when omitted: a whole run); status and values hold end − start entries. */
+  readonly start?: number;
+  readonly end?: number;
   readonly status: number[];
   readonly values: number[];
 }
@@ -93,29 +121,50 @@ const SUMMARY_PROBABILITIES = [0.05, 0.5, 0.95];
 /**
  * One scalar per draw (turnover, volatility, certainty-equivalent loss, …) stored in slot
  * `drawIndex`; a non-finite value (NaN) marks a failed draw, excluded from every statistic and
- * counted. Memory: B doubles + B bytes.
+ * counted. Memory: one double and one byte per slot: B for a whole run, end − start for a range
+ * [start, end) of the draws computed apart (slot of draw b at b − start).
  */
 export class ScalarAccumulator {
+  /** Draws of the whole request (B): draw indices are 0..B−1 whatever range is held. */
   readonly draws: number;
+  /** First draw this accumulator holds a slot for. */
+  readonly firstDraw: number;
+  /** Slots held: draws firstDraw .. firstDraw + slotCount − 1. */
+  readonly slotCount: number;
   private readonly values: Float64Array;
   private readonly status: Uint8Array;
 
-  constructor(draws: number) {
+  constructor(draws: number, range?: SlotRange) {
     checkDrawCount(draws);
+    const { start, end } = checkSlotRange(draws, range);
     this.draws = draws;
-    this.values = new Float64Array(draws).fill(Number.NaN);
-    this.status = new Uint8Array(draws);
+    this.firstDraw = start;
+    this.slotCount = end - start;
+    this.values = new Float64Array(this.slotCount).fill(Number.NaN);
+    this.status = new Uint8Array(this.slotCount);
+  }
+
+  /** True when the slots cover every draw of the request (summaries need that). */
+  get whole(): boolean {
+    return this.slotCount === this.draws;
+  }
+
+  private slotOf(drawIndex: number): number {
+    checkDrawIndex(drawIndex, this.draws);
+    const slot = drawIndex - this.firstDraw;
+    if (slot < 0 || slot >= this.slotCount) throw new RangeError(`draw index ${drawIndex} outside this accumulator's range ${this.firstDraw}..${this.firstDraw + this.slotCount - 1}`);
+    return slot;
   }
 
   /** Stores draw `drawIndex`'s value; NaN or ±∞ records a failed draw. Each slot once only. */
   record(drawIndex: number, value: number): void {
-    checkDrawIndex(drawIndex, this.draws);
-    if (this.status[drawIndex] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
+    const slot = this.slotOf(drawIndex);
+    if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
     if (Number.isFinite(value)) {
-      this.values[drawIndex] = value;
-      this.status[drawIndex] = DRAW_SUCCEEDED;
+      this.values[slot] = value;
+      this.status[slot] = DRAW_SUCCEEDED;
     } else {
-      this.status[drawIndex] = DRAW_FAILED;
+      this.status[slot] = DRAW_FAILED;
     }
   }
 
@@ -123,14 +172,15 @@ export class ScalarAccumulator {
     this.record(drawIndex, Number.NaN);
   }
 
-  /** Adds another accumulator's slots (same draw count, disjoint recorded draws). */
+  /** Adds another accumulator's slots (same request draw count, its range inside this one's, disjoint recorded draws). */
   merge(other: ScalarAccumulator): void {
     if (other.draws !== this.draws) throw new RangeError('cannot merge accumulators of different draw counts');
-    mergeDrawStatus(this.status, other.status);
-    for (let b = 0; b < this.draws; b++) {
+    const offset = other.firstDraw - this.firstDraw;
+    mergeDrawStatus(this.status, other.status, offset);
+    for (let b = 0; b < other.slotCount; b++) {
       if (other.status[b] !== DRAW_NOT_RECORDED) {
-        this.status[b] = other.status[b];
-        this.values[b] = other.values[b];
+        this.status[offset + b] = other.status[b];
+        this.values[offset + b] = other.values[b];
       }
     }
   }
@@ -139,12 +189,13 @@ export class ScalarAccumulator {
     return countDraws(this.status);
   }
 
-  /** Read-only intent: the per-draw values (NaN where not successful), indexed by draw. */
+  /** Read-only intent: the per-draw values (NaN where not successful), draw b in slot b − firstDraw (b for a whole run). */
   slots(): Float64Array {
     return this.values;
   }
 
   summarize(workspace: QuantileErrorWorkspace = createQuantileErrorWorkspace(this.draws)): ScalarSummary {
+    if (!this.whole) throw new RangeError('summaries need every draw: merge the ranges first');
     const moments = stridedMoments(this.values, 0, 1, this.draws);
     const percentiles = new Float64Array(SUMMARY_PROBABILITIES.length);
     quantilesOfStrided(this.values, 0, 1, this.draws, SUMMARY_PROBABILITIES, workspace.sort, percentiles);
@@ -167,19 +218,21 @@ export class ScalarAccumulator {
   }
 
   toState(): ScalarAccumulatorState {
-    const values: number[] = new Array<number>(this.draws);
-    for (let b = 0; b < this.draws; b++) values[b] = this.status[b] === DRAW_SUCCEEDED ? this.values[b] : 0;
-    return { draws: this.draws, status: Array.from(this.status), values };
+    const values: number[] = new Array<number>(this.slotCount);
+    for (let b = 0; b < this.slotCount; b++) values[b] = this.status[b] === DRAW_SUCCEEDED ? this.values[b] : 0;
+    const range = this.whole ? {} : { start: this.firstDraw, end: this.firstDraw + this.slotCount };
+    return { draws: this.draws, ...range, status: Array.from(this.status), values };
   }
 
   static fromState(state: ScalarAccumulatorState): ScalarAccumulator {
-    const accumulator = new ScalarAccumulator(state.draws);
-    if (state.status.length !== state.draws || state.values.length !== state.draws) {
+    const start = state.start ?? 0;
+    const accumulator = new ScalarAccumulator(state.draws, { start, end: state.end ?? state.draws });
+    if (state.status.length !== accumulator.slotCount || state.values.length !== accumulator.slotCount) {
       throw new RangeError('scalar accumulator state has the wrong length');
     }
-    for (let b = 0; b < state.draws; b++) {
-      if (state.status[b] === DRAW_SUCCEEDED) accumulator.record(b, state.values[b]);
-      else if (state.status[b] === DRAW_FAILED) accumulator.recordFailure(b);
+    for (let b = 0; b < accumulator.slotCount; b++) {
+      if (state.status[b] === DRAW_SUCCEEDED) accumulator.record(start + b, state.values[b]);
+      else if (state.status[b] === DRAW_FAILED) accumulator.recordFailure(start + b);
     }
     return accumulator;
   }

@@ -4,12 +4,14 @@ import {
   checkAssetCount,
   checkDrawCount,
   checkDrawIndex,
+  checkSlotRange,
   countDraws,
   DRAW_FAILED,
   DRAW_NOT_RECORDED,
   DRAW_SUCCEEDED,
   mergeDrawStatus,
   type DrawCounts,
+  type SlotRange,
 } from './scalar-accumulator.js';
 
 /**
@@ -18,7 +20,7 @@ import {
  */
 export const DEFAULT_SELECTION_THRESHOLD = 1e-4;
 
-/** Doubles a WeightAccumulator keeps: one B × N block (8 bytes each), so callers can bound memory. */
+/** Doubles a WeightAccumulator keeps: one slots × N block (8 bytes each; slots = B, or end − start for a range), so callers can bound memory. */
 export function storedValues(draws: number, assets: number): number {
   return draws * assets;
 }
@@ -61,10 +63,13 @@ export interface WeightSummary extends DrawCounts {
   readonly quantileErrorMethod: 'order-statistic';
 }
 
-/** JSON-safe state: row-major B × N weights with 0 in rows that did not succeed. */
+/** JSON-safe state: row-major slots × N weights with 0 in rows that did not succeed. */
 export interface WeightAccumulatorState {
   readonly draws: number;
   readonly assets: number;
+  /** First draw of the slots (0 when omitted: a whole run); status and rows hold end − start entries. */
+  readonly start?: number;
+  readonly end?: number;
   readonly status: number[];
   readonly weights: number[];
 }
@@ -74,21 +79,42 @@ const EDGE_PROBABILITIES = [0.05, 0.95, 0.5];
 
 /**
  * One method's joint-channel weights: slot drawIndex holds w_b (N values) in a row-major
- * Float64Array of B × N; a row with any non-finite entry is a failed draw (stored as NaN).
+ * Float64Array of B × N; a row with any non-finite entry is a failed draw (stored as NaN). A range
+ * [start, end) of the draws computed apart holds only its end − start rows (draw b in row b − start).
  */
 export class WeightAccumulator {
+  /** Draws of the whole request (B). */
   readonly draws: number;
   readonly assets: number;
+  /** First draw this accumulator holds a row for. */
+  readonly firstDraw: number;
+  /** Rows held: draws firstDraw .. firstDraw + slotCount − 1. */
+  readonly slotCount: number;
   private readonly weights: Float64Array;
   private readonly status: Uint8Array;
 
-  constructor(draws: number, assets: number) {
+  constructor(draws: number, assets: number, range?: SlotRange) {
     checkDrawCount(draws);
     checkAssetCount(assets);
+    const { start, end } = checkSlotRange(draws, range);
     this.draws = draws;
     this.assets = assets;
-    this.weights = new Float64Array(storedValues(draws, assets)).fill(Number.NaN);
-    this.status = new Uint8Array(draws);
+    this.firstDraw = start;
+    this.slotCount = end - start;
+    this.weights = new Float64Array(storedValues(this.slotCount, assets)).fill(Number.NaN);
+    this.status = new Uint8Array(this.slotCount);
+  }
+
+  /** True when the rows cover every draw of the request (summaries need that). */
+  get whole(): boolean {
+    return this.slotCount === this.draws;
+  }
+
+  private slotOf(drawIndex: number): number {
+    checkDrawIndex(drawIndex, this.draws);
+    const slot = drawIndex - this.firstDraw;
+    if (slot < 0 || slot >= this.slotCount) throw new RangeError(`draw index ${drawIndex} outside this accumulator's range ${this.firstDraw}..${this.firstDraw + this.slotCount - 1}`);
+    return slot;
   }
 
   /**
@@ -96,8 +122,8 @@ export class WeightAccumulator {
    * non-finite entry records a failed draw. Each slot once only.
    */
   record(drawIndex: number, weights: ArrayLike<number>, offset = 0): void {
-    checkDrawIndex(drawIndex, this.draws);
-    if (this.status[drawIndex] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
+    const slot = this.slotOf(drawIndex);
+    if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
     const n = this.assets;
     let finite = true;
     for (let i = 0; i < n; i++) {
@@ -107,31 +133,32 @@ export class WeightAccumulator {
       }
     }
     if (!finite) {
-      this.status[drawIndex] = DRAW_FAILED;
+      this.status[slot] = DRAW_FAILED;
       return;
     }
-    const row = drawIndex * n;
+    const row = slot * n;
     for (let i = 0; i < n; i++) this.weights[row + i] = weights[offset + i];
-    this.status[drawIndex] = DRAW_SUCCEEDED;
+    this.status[slot] = DRAW_SUCCEEDED;
   }
 
   recordFailure(drawIndex: number): void {
-    checkDrawIndex(drawIndex, this.draws);
-    if (this.status[drawIndex] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
-    this.status[drawIndex] = DRAW_FAILED;
+    const slot = this.slotOf(drawIndex);
+    if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} already recorded`);
+    this.status[slot] = DRAW_FAILED;
   }
 
-  /** Adds another accumulator's rows (same B and N, disjoint recorded draws). */
+  /** Adds another accumulator's rows (same B and N, its range inside this one's, disjoint recorded draws). */
   merge(other: WeightAccumulator): void {
     if (other.draws !== this.draws || other.assets !== this.assets) {
       throw new RangeError('cannot merge weight accumulators of different shapes');
     }
-    mergeDrawStatus(this.status, other.status);
+    const offset = other.firstDraw - this.firstDraw;
+    mergeDrawStatus(this.status, other.status, offset);
     const n = this.assets;
-    for (let b = 0; b < this.draws; b++) {
+    for (let b = 0; b < other.slotCount; b++) {
       if (other.status[b] === DRAW_NOT_RECORDED) continue;
-      this.status[b] = other.status[b];
-      this.weights.set(other.weights.subarray(b * n, (b + 1) * n), b * n);
+      this.status[offset + b] = other.status[b];
+      this.weights.set(other.weights.subarray(b * n, (b + 1) * n), (offset + b) * n);
     }
   }
 
@@ -139,7 +166,7 @@ export class WeightAccumulator {
     return countDraws(this.status);
   }
 
-  /** The B × N block (NaN rows = failed or not recorded), e.g. for risk contributions per draw. */
+  /** The slots × N block (NaN rows = failed or not recorded; draw b in row b − firstDraw), e.g. for risk contributions per draw. */
   rows(): Float64Array {
     return this.weights;
   }
@@ -149,6 +176,7 @@ export class WeightAccumulator {
    * percentile is reported; `selectionThreshold` defaults to 1e-4.
    */
   summarize(proposal: ArrayLike<number>, selectionThreshold = DEFAULT_SELECTION_THRESHOLD): WeightSummary {
+    if (!this.whole) throw new RangeError('summaries need every draw: merge the ranges first');
     if (proposal.length < this.assets) throw new RangeError(`proposal has ${proposal.length} weights, need ${this.assets}`);
     const n = this.assets;
     const B = this.draws;
@@ -197,21 +225,24 @@ export class WeightAccumulator {
   toState(): WeightAccumulatorState {
     const weights: number[] = new Array<number>(this.weights.length);
     const n = this.assets;
-    for (let b = 0; b < this.draws; b++) {
+    for (let b = 0; b < this.slotCount; b++) {
       const ok = this.status[b] === DRAW_SUCCEEDED;
       for (let i = 0; i < n; i++) weights[b * n + i] = ok ? this.weights[b * n + i] : 0;
     }
-    return { draws: this.draws, assets: n, status: Array.from(this.status), weights };
+    const range = this.whole ? {} : { start: this.firstDraw, end: this.firstDraw + this.slotCount };
+    return { draws: this.draws, assets: n, ...range, status: Array.from(this.status), weights };
   }
 
   static fromState(state: WeightAccumulatorState): WeightAccumulator {
-    const accumulator = new WeightAccumulator(state.draws, state.assets);
-    if (state.status.length !== state.draws || state.weights.length !== state.draws * state.assets) {
+    const start = state.start ?? 0;
+    const accumulator = new WeightAccumulator(state.draws, state.assets, { start, end: state.end ?? state.draws });
+    const slots = accumulator.slotCount;
+    if (state.status.length !== slots || state.weights.length !== slots * state.assets) {
       throw new RangeError('weight accumulator state has the wrong length');
     }
-    for (let b = 0; b < state.draws; b++) {
-      if (state.status[b] === DRAW_SUCCEEDED) accumulator.record(b, state.weights, b * state.assets);
-      else if (state.status[b] === DRAW_FAILED) accumulator.recordFailure(b);
+    for (let b = 0; b < slots; b++) {
+      if (state.status[b] === DRAW_SUCCEEDED) accumulator.record(start + b, state.weights, b * state.assets);
+      else if (state.status[b] === DRAW_FAILED) accumulator.recordFailure(start + b);
     }
     return accumulator;
   }

@@ -241,23 +241,29 @@ export function createScratch(problem: PreparedProblem): Scratch {
   return { n: new Float64Array(problem.n), k: new Float64Array(problem.riskModel.kind === 'factor' ? 2 * problem.riskModel.k : 2) };
 }
 
-export function createAccumulators(plan: StressPlan): StressAccumulators {
+/**
+ * Accumulators for the draws [range.start, range.end) of the plan (all of them when omitted): the
+ * per-draw slots are sized to the range, so a thread or shard holds its share of a run's memory,
+ * not the whole run's. The channel accumulators keep per-batch sums over the whole request
+ * (O(batches × N), small next to the per-draw rows).
+ */
+export function createAccumulators(plan: StressPlan, range?: { readonly start: number; readonly end: number }): StressAccumulators {
   const { draws } = plan;
   const n = plan.problem.n;
   return {
     methods: plan.solvers.map(() => ({
-      weights: new WeightAccumulator(draws, n),
+      weights: new WeightAccumulator(draws, n, range),
       channels: new ChannelVarianceAccumulator(draws, n),
-      turnoverFromProposal: new ScalarAccumulator(draws),
-      turnoverFromBase: new ScalarAccumulator(draws),
-      volatility: new ScalarAccumulator(draws),
-      certaintyEquivalentLoss: new ScalarAccumulator(draws),
+      turnoverFromProposal: new ScalarAccumulator(draws, range),
+      turnoverFromBase: new ScalarAccumulator(draws, range),
+      volatility: new ScalarAccumulator(draws, range),
+      certaintyEquivalentLoss: new ScalarAccumulator(draws, range),
       failures: new Map<string, number>(),
     })),
-    proposalVolatility: new ScalarAccumulator(draws),
-    proposalReturn: new ScalarAccumulator(draws),
-    proposalShortfall: new ScalarAccumulator(draws),
-    proposalRiskShares: new WeightAccumulator(draws, n),
+    proposalVolatility: new ScalarAccumulator(draws, range),
+    proposalReturn: new ScalarAccumulator(draws, range),
+    proposalShortfall: new ScalarAccumulator(draws, range),
+    proposalRiskShares: new WeightAccumulator(draws, n, range),
     inputFailures: new Map<string, number>(),
   };
 }

@@ -94,7 +94,7 @@ function computeDraws(plan: ReturnType<typeof planStress>, options: RunOptions):
   }
   for (let start = 0; start < plan.draws; start += size) {
     const end = Math.min(plan.draws, start + size);
-    const part = createAccumulators(plan);
+    const part = createAccumulators(plan, { start, end });
     runDraws(plan, start, end, part, options.onProgress ? (done) => options.onProgress?.(start + done, plan.draws) : undefined);
     mergeAccumulators(acc, part);
   }

@@ -48,6 +48,26 @@ describe('the partial wire form', () => {
     );
   });
 
+  it('a range computed into range-sized accumulators (end − start slots) gives the same partial bytes as whole-run ones', async () => {
+    const { plan, digest } = await setup();
+    const whole = createAccumulators(plan);
+    runDraws(plan, 20, 45, whole);
+    const sized = createAccumulators(plan, { start: 20, end: 45 });
+    runDraws(plan, 20, 45, sized);
+    const n = plan.problem.n;
+    for (const m of sized.methods) {
+      expect([m.weights.firstDraw, m.weights.slotCount, m.weights.rows().length]).toEqual([20, 25, 25 * n]);
+      for (const s of [m.turnoverFromProposal, m.turnoverFromBase, m.volatility, m.certaintyEquivalentLoss]) expect(s.slots().length).toBe(25);
+    }
+    expect(sized.proposalRiskShares.rows().length).toBe(25 * n);
+    expect(sized.proposalVolatility.slots().length).toBe(25);
+    expect(whole.proposalVolatility.slots().length).toBe(plan.draws);
+    const bytes = encodePartial(plan, sized, { start: 20, end: 45 }, digest);
+    expect(Buffer.from(bytes).equals(Buffer.from(encodePartial(plan, whole, { start: 20, end: 45 }, digest)))).toBe(true);
+    // A range's accumulators cannot encode draws they do not hold.
+    expect(() => encodePartial(plan, sized, { start: 0, end: 25 }, digest)).toThrow();
+  });
+
   it('keeps −0 and NaN (failed draws) exactly, which JSON would not', async () => {
     const { plan, digest } = await setup(20);
     // Put a −0 on the wire (a successful slot edited in place).

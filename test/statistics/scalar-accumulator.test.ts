@@ -30,6 +30,40 @@ describe('ScalarAccumulator', () => {
     expect(expected.quantileErrorMethod).toBe('order-statistic');
   });
 
+  it('a range [start, end) holds end − start slots and merges into the whole run bit for bit', () => {
+    const B = 500;
+    const whole = new ScalarAccumulator(B);
+    for (let b = 0; b < B; b++) whole.record(b, valueOf(b));
+    const ranges = [
+      [0, 137],
+      [137, 300],
+      [300, 500],
+    ].map(([start, end]) => {
+      const part = new ScalarAccumulator(B, { start, end });
+      for (let b = start; b < end; b++) part.record(b, valueOf(b));
+      return part;
+    });
+    expect(ranges.map((r) => [r.firstDraw, r.slotCount, r.slots().length])).toEqual([
+      [0, 137, 137],
+      [137, 163, 163],
+      [300, 200, 200],
+    ]);
+    const merged = new ScalarAccumulator(B);
+    for (const r of [ranges[2], ranges[0], ranges[1]]) merged.merge(r);
+    expect(merged.summarize()).toEqual(whole.summarize());
+    expect(Array.from(merged.slots())).toEqual(Array.from(whole.slots()));
+    // A range's state round-trips with its offset.
+    const again = ScalarAccumulator.fromState(JSON.parse(JSON.stringify(ranges[1].toState())));
+    expect([again.firstDraw, again.slotCount, Array.from(again.slots())]).toEqual([137, 163, Array.from(ranges[1].slots())]);
+    // Draws outside the range, merging a wider range into a narrower one, and summaries of a part are refused.
+    expect(() => ranges[1].record(136, 1)).toThrow(/outside this accumulator's range/);
+    expect(() => ranges[1].record(300, 1)).toThrow(/outside this accumulator's range/);
+    expect(() => ranges[1].merge(whole)).toThrow(RangeError);
+    expect(() => ranges[1].summarize()).toThrow(/every draw/);
+    expect(() => new ScalarAccumulator(10, { start: 4, end: 4 })).toThrow(RangeError);
+    expect(() => new ScalarAccumulator(10, { start: 0, end: 11 })).toThrow(RangeError);
+  });
+
   it('excludes failed draws from every statistic', () => {
     const withFailures = new ScalarAccumulator(4);
     withFailures.record(0, 1);

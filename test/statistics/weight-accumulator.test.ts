@@ -24,6 +24,37 @@ function weightsOf(b: number, out: Float64Array): Float64Array {
 describe('WeightAccumulator', () => {
   const proposal = [0.4, 0.5, 0.1];
 
+  it('a range [start, end) holds (end − start) × N values and merges into the whole run bit for bit', () => {
+    const B = 300;
+    const row = new Float64Array(N);
+    const whole = new WeightAccumulator(B, N);
+    for (let b = 0; b < B; b++) whole.record(b, weightsOf(b, row));
+    const parts = [
+      [0, 100],
+      [100, 101],
+      [101, 300],
+    ].map(([start, end]) => {
+      const part = new WeightAccumulator(B, N, { start, end });
+      for (let b = end - 1; b >= start; b--) part.record(b, weightsOf(b, row));
+      return part;
+    });
+    expect(parts.map((p) => [p.firstDraw, p.slotCount, p.rows().length])).toEqual([
+      [0, 100, storedValues(100, N)],
+      [100, 1, storedValues(1, N)],
+      [101, 199, storedValues(199, N)],
+    ]);
+    expect(Array.from(parts[2].rows().subarray(0, N))).toEqual(Array.from(whole.rows().subarray(101 * N, 102 * N)));
+    const merged = new WeightAccumulator(B, N);
+    for (const p of [parts[1], parts[2], parts[0]]) merged.merge(p);
+    expect(merged.summarize(proposal)).toEqual(whole.summarize(proposal));
+    expect(Array.from(merged.rows())).toEqual(Array.from(whole.rows()));
+    const again = WeightAccumulator.fromState(JSON.parse(JSON.stringify(parts[2].toState())));
+    expect([again.firstDraw, again.slotCount, Array.from(again.rows())]).toEqual([101, 199, Array.from(parts[2].rows())]);
+    expect(() => parts[1].record(99, row)).toThrow(/outside this accumulator's range/);
+    expect(() => parts[1].merge(parts[2])).toThrow(RangeError);
+    expect(() => parts[0].summarize(proposal)).toThrow(/every draw/);
+  });
+
   it('shuffled recording, merged ranges and a JSON round trip give bit-identical summaries', () => {
     const B = 300;
     const row = new Float64Array(N);
