@@ -3,7 +3,7 @@ import { LIMITS } from '../schema/limits.js';
 import { validateProposal } from '../schema/validate.js';
 import type { Problem } from '../schema/problems.js';
 import { inputDigest } from '../stress/digest.js';
-import { createAccumulators, planStress, runDraws, type WorkLimits } from '../stress/engine.js';
+import { createAccumulators, planStress, runDraws, type PlanSolution, type StressPlan, type WorkLimits } from '../stress/engine.js';
 import { RangeCancelledError } from './errors.js';
 import { encodePartial } from './wire.js';
 
@@ -49,6 +49,16 @@ export interface RangeComputeOptions {
   readonly cancelled?: () => boolean;
   /** Draws finished so far in this range. */
   readonly onProgress?: (done: number) => void;
+  /**
+   * The plan of the whole request, already made on this thread (with the proposal's input digest):
+   * nothing is validated or planned again.
+   */
+  readonly planned?: { readonly plan: StressPlan; readonly inputDigest: string };
+  /**
+   * The solution of the caller's plan (another thread's): the proposal is validated, prepared and
+   * priced here, but the base optima, block length and reference are taken, not solved again.
+   */
+  readonly solution?: PlanSolution;
 }
 
 /**
@@ -60,21 +70,28 @@ function chunkDraws(workPerDraw: number): number {
   return Math.min(50, Math.max(10, Math.floor(2e8 / Math.max(workPerDraw, 1))));
 }
 
-/**
- * Computes the draws [start, end) of a request and returns the binary partial result. The plan
- * (base optima, block length) is recomputed here from the proposal: it is deterministic, so every
- * range sees the plan of a single run. Throws RangeProposalError, LimitError (413) and the core's
- * typed errors like a whole request would.
- */
-export async function computeRange(request: RangeRequest, options: RangeComputeOptions = {}): Promise<Uint8Array> {
+/** The plan of a range's request: the caller's own, one made from the caller's solution, or a fresh one. */
+async function rangePlan(request: RangeRequest, options: RangeComputeOptions): Promise<{ plan: StressPlan; inputDigest: string }> {
+  if (options.planned) {
+    const { plan } = options.planned;
+    if (plan.draws !== request.draws || plan.seed !== request.seed) throw new RangeError('the plan handed to the range is for another request');
+    return options.planned;
+  }
   const validation = validateProposal(request.proposal);
   if (!validation.ok) throw new RangeProposalError(validation.problems);
-  const plan = planStress(validation.proposal, validation.warnings, {
-    draws: request.draws,
-    seed: request.seed,
-    maxWork: options.limits?.maxWork,
-    workShares: rangeWorkShares(request),
-  });
+  const overrides = { draws: request.draws, seed: request.seed, maxWork: options.limits?.maxWork, workShares: rangeWorkShares(request) };
+  const plan = planStress(validation.proposal, validation.warnings, overrides, options.solution);
+  return { plan, inputDigest: await inputDigest(validation.proposal) };
+}
+
+/**
+ * Computes the draws [start, end) of a request and returns the binary partial result. Without a
+ * plan or solution handed over, the plan (base optima, block length) is recomputed here from the
+ * proposal: it is deterministic, so every range sees the plan of a single run. Throws
+ * RangeProposalError, LimitError (413) and the core's typed errors like a whole request would.
+ */
+export async function computeRange(request: RangeRequest, options: RangeComputeOptions = {}): Promise<Uint8Array> {
+  const { plan, inputDigest: digest } = await rangePlan(request, options);
   const acc = createAccumulators(plan, { start: request.start, end: request.end });
   const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;
   for (let from = request.start; from < request.end; from += chunk) {
@@ -85,5 +102,5 @@ export async function computeRange(request: RangeRequest, options: RangeComputeO
     if (options.pause && to < request.end) await options.pause();
   }
   if (options.cancelled?.()) throw new RangeCancelledError('cancelled');
-  return encodePartial(plan, acc, request, await inputDigest(validation.proposal));
+  return encodePartial(plan, acc, request, digest);
 }

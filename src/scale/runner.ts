@@ -6,11 +6,23 @@ import { fanOut } from './fan-out.js';
 import type { RangeRequest } from './range-job.js';
 import { splitDraws, type DrawRange } from './ranges.js';
 
+/** What an executor knows about the range it computes. */
+export interface RangeContext {
+  readonly range: DrawRange;
+  readonly attempt: number;
+  readonly signal: AbortSignal;
+  readonly onProgress: (done: number) => void;
+  /**
+   * The request's plan, made by the caller, and the proposal's input digest: an executor on the
+   * same thread computes from it directly, one on another thread may send plan.solution along.
+   * Remote executors ignore it (the service plans for itself).
+   */
+  readonly plan: StressPlan;
+  readonly inputDigest: string;
+}
+
 /** Where and how one range is computed: a worker thread, a Durable Object, a remote service. */
-export type RangeExecutor = (
-  request: RangeRequest,
-  context: { readonly range: DrawRange; readonly attempt: number; readonly signal: AbortSignal; readonly onProgress: (done: number) => void },
-) => Promise<Uint8Array>;
+export type RangeExecutor = (request: RangeRequest, context: RangeContext) => Promise<Uint8Array>;
 
 export interface FanOutRunnerOptions {
   /**
@@ -52,7 +64,7 @@ export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { recor
         digest,
         splitDraws(plan.draws, parts),
         (range, attempt, signal, progress) =>
-          options.execute({ proposal, draws: plan.draws, seed: plan.seed, start: range.start, end: range.end }, { range, attempt, signal, onProgress: progress }),
+          options.execute({ proposal, draws: plan.draws, seed: plan.seed, start: range.start, end: range.end }, { range, attempt, signal, onProgress: progress, plan, inputDigest: digest }),
         { signal: options.signal, retries: options.retries, unit: options.unit, onProgress },
       );
     },

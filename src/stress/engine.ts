@@ -75,6 +75,25 @@ export interface StressPlan {
   /** The work budget in force for this request (the deployment may lower the built-in one). */
   readonly maxWorkUnits: number;
   readonly warnings: Warning[];
+  /** What planning solved for, to hand to ranges computed elsewhere (planStress's `solved`). */
+  readonly solution: PlanSolution;
+}
+
+/**
+ * The part of a plan that takes solving: the base optima (which methods have one, their results
+ * and warm starts), the bootstrap's mean block length and the reference score. All deterministic
+ * functions of the proposal, so a range computed on another thread may take them instead of
+ * solving again and draws exactly what one run draws. Plain data and typed arrays only, so it
+ * passes to a worker thread by structured clone (every double bit for bit).
+ */
+export interface PlanSolution {
+  readonly meanBlockLength: number | null;
+  /** Positions, in the proposal's method list, of the methods with a base optimum (the others are left out). */
+  readonly kept: readonly number[];
+  readonly base: readonly MethodResult[];
+  readonly referenceCertaintyEquivalent: number;
+  /** The warnings the base solves gave (method left out, degenerate inputs, Kelly approximation). */
+  readonly baseWarnings: readonly Warning[];
 }
 
 /** Per-method accumulators. */
@@ -117,10 +136,16 @@ export function checkLimits(job: Job, proposal: Proposal, draws: number, options
   return verdict.work;
 }
 
+/**
+ * Everything fixed before the first draw. `solved`: the solution of an earlier plan of the same
+ * proposal (another thread's), taken instead of solving the base optima, block length and
+ * reference again; the inputs are still prepared and priced here.
+ */
 export function planStress(
   proposal: Proposal,
   warnings: Warning[],
   overrides: { draws?: number; seed?: Seed; maxWork?: number; workShares?: number } = {},
+  solved?: PlanSolution,
 ): StressPlan {
   const draws = overrides.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
@@ -131,8 +156,8 @@ export function planStress(
   const prepared = prepareProblem(proposal, warnings);
   const history = prepared.history;
   const planWarnings = [...prepared.warnings];
-  let meanBlockLength: number | null = null;
-  if (history && scheme === 'stationary-bootstrap') {
+  let meanBlockLength: number | null = solved ? solved.meanBlockLength : null;
+  if (!solved && history && scheme === 'stationary-bootstrap') {
     const requested = proposal.resampling?.meanBlockLength ?? 'auto';
     meanBlockLength =
       requested === 'auto'
@@ -141,11 +166,12 @@ export function planStress(
   }
   const scenarioKelly = history !== undefined && scheme !== 'parametric';
 
-  const { problem, solvers, base, baseScenarios, warnings: baseWarnings } = solveBaseOptima(prepared, scenarioKelly);
+  const { problem, solvers, base, baseScenarios, warnings: baseWarnings, kept } = solveBaseOptima(prepared, scenarioKelly, solved);
   planWarnings.push(...baseWarnings);
 
-  const reference = solveReferenceMeanVariance(problem, problem.methods, base);
-  const referenceCertaintyEquivalent = certaintyEquivalent(problem, reference, createScratch(problem));
+  const referenceCertaintyEquivalent = solved
+    ? solved.referenceCertaintyEquivalent
+    : certaintyEquivalent(problem, solveReferenceMeanVariance(problem, problem.methods, base), createScratch(problem));
   const parametric =
     scheme === 'parametric'
       ? prepareParametricBase({ mean: problem.mean, risk: problem.riskModel, observations: problem.observations, meanStdErr: problem.viewStdErr })
@@ -164,14 +190,19 @@ export function planStress(
     workUnits,
     maxWorkUnits: effectiveMaxWork({ maxWork: overrides.maxWork }),
     warnings: planWarnings,
+    solution: { meanBlockLength, kept, base, referenceCertaintyEquivalent, baseWarnings },
   };
 }
 
-/** Every method's solver and its optimum on the unperturbed inputs (shared by optimize and stress). */
+/**
+ * Every method's solver and its optimum on the unperturbed inputs (shared by optimize and stress).
+ * `solved`: optima found earlier for the same problem (PlanSolution), taken as they are.
+ */
 export function solveBaseOptima(
   problem: PreparedProblem,
   scenarioKelly: boolean,
-): { problem: PreparedProblem; solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[] } {
+  solved?: Pick<PlanSolution, 'kept' | 'base' | 'baseWarnings'>,
+): { problem: PreparedProblem; solvers: MethodSolver[]; base: MethodResult[]; baseScenarios?: Float64Array; warnings: Warning[]; kept: number[] } {
   const n = problem.n;
   const history = problem.history;
   const solvers = problem.methods.map((spec) => createMethodSolver(spec, problem, { scenarioKelly }));
@@ -184,6 +215,12 @@ export function solveBaseOptima(
     // The history moved to the base mean (a no-op without views).
     const historyMean = sampleMean(history.assets);
     shiftedRows(history.assets.values, n, rows, undefined, difference(problem.mean, historyMean, new Float64Array(n)), baseScenarios);
+  }
+  if (solved) {
+    const kept = [...solved.kept];
+    const methods = kept.map((k) => problem.methods[k]);
+    const keptProblem: PreparedProblem = kept.length === problem.methods.length ? problem : { ...problem, methods };
+    return { problem: keptProblem, solvers: kept.map((k) => solvers[k]), base: [...solved.base], baseScenarios, warnings: [...solved.baseWarnings], kept };
   }
   const inputs: SolveInputs = { mean: problem.mean, riskModel: problem.riskModel, scenarios: baseScenarios, scenarioCount: rows };
   const warnings: Warning[] = degenerateInputWarnings(problem);
@@ -215,7 +252,7 @@ export function solveBaseOptima(
     }
   });
   // Each method's own warnings stay with its optimum (methods[i].base.warnings), not repeated here.
-  return { problem: keptProblem, solvers: kept.map((k) => solvers[k]), base, baseScenarios, warnings };
+  return { problem: keptProblem, solvers: kept.map((k) => solvers[k]), base, baseScenarios, warnings, kept };
 }
 
 /**

@@ -24,7 +24,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { Miniflare } from 'miniflare';
-import { threadExecutor, threadRunner } from '../../src/cli/threads.js';
+import { RangeThreadPool, threadExecutor, threadRunner } from '../../src/cli/threads.js';
 import { fanOutRunner } from '../../src/scale/runner.js';
 import { PartialMerger } from '../../src/scale/merge.js';
 import { WIRE_FIELDS, type WireCursor } from '../../src/scale/wire-fields.js';
@@ -147,7 +147,7 @@ async function threads(): Promise<void> {
   // so speed-ups are against "1 (here)".
   for (const [label, runner] of [
     ['1 (here)', undefined],
-    ['1 (thread)', fanOutRunner({ parts: 1, execute: threadExecutor(entry), unit: 'thread' })],
+    ['1 (thread)', fanOutRunner({ parts: 1, execute: threadExecutor(new RangeThreadPool(entry)), unit: 'thread' })],
     ['2', threadRunner(2, false, entry)],
     ['4', threadRunner(4, false, entry)],
   ] as const) {

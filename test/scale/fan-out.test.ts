@@ -43,10 +43,11 @@ describe('fan-out over ranges', () => {
   it('retries a failed shard once and still gives the exact report', async () => {
     const p = historyProposal(60, { resampling: { draws: 40, seed: 'retry' } });
     const attempts: string[] = [];
-    const flaky: RangeExecutor = async (request, { range, attempt }) => {
+    const flaky: RangeExecutor = async (request, context) => {
+      const { range, attempt } = context;
       attempts.push(`${range.index}:${attempt}`);
       if (range.index === 2 && attempt === 1) throw new Error('connection reset');
-      return local(request, { range, attempt, signal: new AbortController().signal, onProgress: () => undefined });
+      return local(request, context);
     };
     const v = valid(p);
     expect(comparable(await sharded(p, 4, flaky))).toBe(comparable(await stressProposal(v.proposal, v.warnings)));
