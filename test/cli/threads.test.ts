@@ -3,6 +3,9 @@ import { describe, expect, it } from 'vitest';
 import { historyProposal } from '../helpers/proposals.js';
 import { UsageError } from '../../src/cli/io.js';
 import { scaleRunner } from '../../src/cli/scale-options.js';
+import { RangeThreadPool, threadRunner } from '../../src/cli/threads.js';
+import { stressProposal } from '../../src/stress/run.js';
+import { valid } from '../scale/helpers.js';
 import { comparable } from '../scale/helpers.js';
 
 // Runs the CLI as a user does, with the draws split over worker threads.
@@ -25,6 +28,26 @@ describe('wobble --threads', () => {
     expect(b.meta.threads).toBe(4);
     expect(comparable(b)).toBe(comparable(a));
   });
+
+  it('starts its threads early and keeps them warm between requests (same bytes every time)', async () => {
+    const v = valid(historyProposal(60, { resampling: { draws: 30, seed: 'pool' } }));
+    const pool = new RangeThreadPool();
+    try {
+      const runner = threadRunner(3, false, undefined, pool);
+      // Asked for explicitly, the two worker threads start before any request.
+      expect(pool.idleThreads).toBe(2);
+      const expected = comparable(await stressProposal(v.proposal, v.warnings));
+      for (let round = 0; round < 2; round++) {
+        const report = await stressProposal(v.proposal, v.warnings, { drawRunner: runner });
+        expect(report.meta.threads).toBe(3);
+        expect(comparable(report)).toBe(expected);
+        // Both threads finished cleanly and wait for the next request.
+        expect(pool.idleThreads).toBe(2);
+      }
+    } finally {
+      await pool.close();
+    }
+  }, 60_000);
 
   it('refuses bad combinations as usage errors (exit 2)', () => {
     expect(() => scaleRunner({ threads: '0' })).toThrow(UsageError);
