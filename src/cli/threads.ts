@@ -102,10 +102,11 @@ export class RangeThreadPool {
 /**
  * Computes a range on a pooled worker thread, sending the caller's plan solution along so the
  * thread does not solve the base optima again. Terminating the thread is how a range is stopped
- * (a stopped or failed thread is not reused).
+ * (a stopped or failed thread is not reused). `shipPlan: false` lets the thread plan for itself
+ * (the path before plan hand-over, kept for the benchmark's comparison).
  */
 export const threadExecutor =
-  (pool: RangeThreadPool): RangeExecutor =>
+  (pool: RangeThreadPool, { shipPlan = true }: { shipPlan?: boolean } = {}): RangeExecutor =>
   (request, { signal, onProgress, plan }) =>
     new Promise<Uint8Array>((resolve, reject) => {
       if (signal.aborted) return reject(new RangeCancelledError());
@@ -135,7 +136,7 @@ export const threadExecutor =
       worker.on('error', onError);
       worker.on('exit', onExit);
       try {
-        worker.postMessage({ type: 'range', request, solution: plan.solution } satisfies RangeMessage);
+        worker.postMessage({ type: 'range', request, solution: shipPlan ? plan.solution : undefined } satisfies RangeMessage);
       } catch (e) {
         settle(() => reject(e), false);
       }
