@@ -5,6 +5,7 @@ import { Worker } from 'node:worker_threads';
 import { computeRange } from '../scale/range-job.js';
 import { RangeCancelledError } from '../scale/errors.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
+import { planForecastSensitivity } from '../stress/plan-summary.js';
 import type { DrawRunner } from '../stress/run.js';
 import type { RangeMessage, ThreadMessage } from './range-thread.js';
 
@@ -144,7 +145,7 @@ export const threadExecutor =
 
 /**
  * Computes a range on this thread from the plan already made here (nothing validated or planned
- * again), after letting the other ranges' threads start (the draws run synchronously and would
+ * again), then the report's plan-only part while the other threads finish, after letting the other ranges' threads start (the draws run synchronously and would
  * hold them back). It cannot be interrupted; a cancel is noticed when it ends.
  */
 const computeHere: RangeExecutor = async (request, { signal, onProgress, plan, inputDigest }) => {
@@ -152,6 +153,9 @@ const computeHere: RangeExecutor = async (request, { signal, onProgress, plan, i
   if (signal.aborted) throw new RangeCancelledError();
   const bytes = await computeRange(request, { onProgress, planned: { plan, inputDigest } });
   if (signal.aborted) throw new RangeCancelledError();
+  // This thread would now wait for the worker threads' ranges: the report's plan-only part
+  // (forecast sensitivity) is computed in that time instead of after the merge.
+  planForecastSensitivity(plan);
   return bytes;
 };
 

@@ -9,7 +9,7 @@ import { expectedShortfall } from './scenarios.js';
 import { findingsFor } from './findings.js';
 import { methodKey } from './method-key.js';
 export { methodKey } from './method-key.js';
-import { forecastSensitivityTables } from './forecast-sensitivity.js';
+import { planForecastSensitivity } from './plan-summary.js';
 import { summarise } from './headline.js';
 import { PERCENTILE_DEFINITION } from '../statistics/quantiles.js';
 import type { ScalarSummary } from '../statistics/scalar-accumulator.js';
@@ -49,7 +49,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     });
   }
 
-  const sensitivity = forecastSensitivityTables(p, plan.base, plan.baseScenarios, plan.workUnits, plan.maxWorkUnits);
+  const sensitivity = planForecastSensitivity(plan);
   warnings.push(...sensitivity.warnings);
   const methods: MethodReport[] = plan.solvers.map((_, k) => {
     const a = acc.methods[k];
