@@ -13,8 +13,8 @@ import type { RangeMessage, ThreadMessage } from './range-thread.js';
 export const MAX_DEFAULT_THREADS = 8;
 
 /**
- * Below this estimated work the default splits nothing: starting a thread and re-planning in it
- * costs more than it saves. The work model prices worst cases (src/cost), so typical requests run
+ * Below this estimated work the default splits nothing: starting a thread (module load, JIT
+ * warm-up of a cold thread) costs more than it saves. The work model prices worst cases (src/cost), so typical requests run
  * at 0.3–1 ns per counted unit: the demo at 500 draws is priced 1.9e9 units and takes 0.65 s in
  * one thread, and was slower with 2 threads (1.8 s wall against 1.1 s, measured on the 2-core
  * development machine). 1e10 units is a few seconds of single-thread CPU, where two threads pay

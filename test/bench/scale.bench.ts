@@ -41,6 +41,7 @@ import { buildReport } from '../../src/stress/report.js';
 import { stressProposal, type DrawRunner } from '../../src/stress/run.js';
 import { forecastSensitivityTables } from '../../src/stress/forecast-sensitivity.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from '../../src/statistics/stability.js';
+import { ChannelVarianceAccumulator } from '../../src/statistics/channel-variance.js';
 import { demoProposal } from '../helpers/proposals.js';
 import { factorCase, threadsCase } from './scale-problems.js';
 
@@ -176,12 +177,35 @@ async function profileOneThread(v: ReturnType<typeof valid>, label: string): Pro
   const p = plan.value.problem;
   const band = await measure(() => acc.methods.forEach((m) => outsideBandShare(m.weights.rows(), plan.value.draws, p.n, p.proposalWeights, BAND_EDGE_TOLERANCE, plan.value.seed)));
   const report = await measure(() => buildReport(plan.value, acc, { version: 'bench', inputDigest: digest.value, elapsedMs: 0 }));
-  const ms = (x: { wall: number }): string => `${(x.wall * 1000).toFixed(0)} ms`;
+  // Wall (CPU) per piece: on a shared machine the CPU times are the steadier ones.
+  const ms = (x: { wall: number; cpu: number }): string => `${(x.wall * 1000).toFixed(0)} (${(x.cpu * 1000).toFixed(0)}) ms`;
   console.log(
-    `   ${label.padEnd(6)} validate ${ms(validation)}, plan ${ms(plan)}, digest ${ms(digest)}, draws ${draws.wall.toFixed(2)} s (${((draws.wall / plan.value.draws) * 1000).toFixed(2)} ms/draw), report ${ms(report)} (of which forecast sensitivity ${ms(sensitivity)}, outside-band bootstrap ${ms(band)})`,
+    `   ${label.padEnd(6)} validate ${ms(validation)}, plan ${ms(plan)}, digest ${ms(digest)}, draws ${draws.wall.toFixed(2)} (${draws.cpu.toFixed(2)}) s, report ${ms(report)} (of which forecast sensitivity ${ms(sensitivity)}, outside-band bootstrap ${ms(band)})`,
   );
-  const serial = validation.wall + plan.wall + digest.wall + report.wall;
-  return { serial, draws: draws.wall };
+  const serial = validation.cpu + plan.cpu + digest.cpu + report.cpu;
+  return { serial, draws: draws.cpu };
+}
+
+/** Bytes an accumulator set holds (per-draw slots and status bytes, channel cells). */
+function accumulatorBytes(acc: StressAccumulators): number {
+  const slots = (a: { slotCount: number }, perSlot: number): number => a.slotCount * (8 * perSlot + 1);
+  let bytes = slots(acc.proposalRiskShares, acc.proposalRiskShares.assets);
+  for (const s of [acc.proposalVolatility, acc.proposalReturn, acc.proposalShortfall]) bytes += slots(s, 1);
+  for (const m of acc.methods) {
+    bytes += slots(m.weights, m.weights.assets) + 8 * ChannelVarianceAccumulator.storedValues(m.channels.draws, m.channels.assets) + 2 * m.channels.draws;
+    for (const s of [m.turnoverFromProposal, m.turnoverFromBase, m.volatility, m.certaintyEquivalentLoss]) bytes += slots(s, 1);
+  }
+  return bytes;
+}
+
+/** Memory of one range's accumulators: sized to the whole run (before) and to the range (now). */
+function rangeMemory(name: string, p: ProposalInput, parts: number): void {
+  const v = valid(p);
+  const plan = planStress(v.proposal, v.warnings, { workShares: Number.POSITIVE_INFINITY });
+  const range = { start: 0, end: Math.ceil(plan.draws / parts) };
+  const whole = accumulatorBytes(createAccumulators(plan));
+  const sized = accumulatorBytes(createAccumulators(plan, range));
+  console.log(`   ${name}, one of ${parts} ranges (${range.end} draws): accumulators ${(whole / MB).toFixed(1)} MB sized to the run (before) → ${(sized / MB).toFixed(1)} MB sized to the range`);
 }
 
 async function threads(): Promise<void> {
@@ -191,12 +215,14 @@ async function threads(): Promise<void> {
   console.log(`\n2. Worker threads: 30 assets, six methods, ${draws} draws; ${availableParallelism()} cores available   load ${load()}`);
   console.log('   (threads load a bundled range-thread.mjs, as a built install does; from TypeScript sources every thread also starts tsx)');
 
-  console.log('   a) where one thread\'s time goes (first run cold: modules just loaded, nothing compiled; then warm):');
+  console.log('   a) where one thread\'s time goes, wall (CPU) (first run cold: modules just loaded, nothing compiled; then warm):');
+  rangeMemory('30 assets, 6 methods', threadsCase(draws), 2);
+  rangeMemory('2000 assets, 8 factors, 1 method, 1500 draws', factorCase(2000, 8, 1500), 8);
   await profileOneThread(v, 'cold');
   const warm = await profileOneThread(v, 'warm');
   const serialShare = warm.serial / (warm.serial + warm.draws);
   const amdahl = (n: number): number => 1 / (serialShare + (1 - serialShare) / n);
-  console.log(`   serial share (validate, plan, digest, report) ${(serialShare * 100).toFixed(1)} %: Amdahl bound ${amdahl(2).toFixed(2)}× with 2 threads, ${amdahl(4).toFixed(2)}× with 4 (before thread start-up and merge)`);
+  console.log(`   serial share of the warm CPU time (validate, plan, digest, report) ${(serialShare * 100).toFixed(1)} %: Amdahl bound ${amdahl(2).toFixed(2)}× with 2 threads, ${amdahl(4).toFixed(2)}× with 4 (before thread start-up and merge)`);
   {
     const pool = new RangeThreadPool(entry);
     const planned = planStress(v.proposal, v.warnings);
