@@ -1,0 +1,26 @@
+import { threadsCase } from './scale-problems.js';
+import { validateProposal } from '../../src/schema/validate.js';
+import { createAccumulators, planStress, runDraws } from '../../src/stress/engine.js';
+import { buildReport } from '../../src/stress/report.js';
+import { forecastSensitivityTables } from '../../src/stress/forecast-sensitivity.js';
+import { outsideBandShare, BAND_EDGE_TOLERANCE } from '../../src/statistics/stability.js';
+import { encodePartial } from '../../src/scale/wire.js';
+import { inputDigest } from '../../src/stress/digest.js';
+const draws = Number(process.env.DRAWS ?? 1000);
+const v = validateProposal(threadsCase(draws));
+if (!v.ok) throw new Error('invalid');
+const cpu = () => { const u = process.cpuUsage(); return (u.user + u.system) / 1000; };
+function time<T>(label: string, f: () => T): T { const t = performance.now(); const c = cpu(); const r = f(); console.log(`${label.padEnd(40)} wall ${(performance.now() - t).toFixed(0).padStart(6)} ms  cpu ${(cpu() - c).toFixed(0).padStart(6)} ms`); return r; }
+const plan = time('plan (cold)', () => planStress(v.proposal, v.warnings));
+time('plan (warm)', () => planStress(v.proposal, v.warnings));
+time('plan (warm again)', () => planStress(v.proposal, v.warnings));
+const acc = createAccumulators(plan);
+time(`draws 0..${draws / 2}`, () => runDraws(plan, 0, draws / 2, acc));
+time(`draws ${draws / 2}..${draws}`, () => runDraws(plan, draws / 2, draws, acc));
+const digest = await inputDigest(v.proposal);
+time('encode all', () => encodePartial(plan, acc, { start: 0, end: draws }, digest));
+time('forecast sensitivity', () => forecastSensitivityTables(plan.problem, plan.base, plan.baseScenarios, plan.workUnits, plan.maxWorkUnits));
+time('outside-band (all methods)', () => plan.solvers.forEach((_, k) => outsideBandShare(acc.methods[k].weights.rows(), plan.draws, plan.problem.n, plan.problem.proposalWeights, BAND_EDGE_TOLERANCE, plan.seed)));
+time('weights summarize (all)', () => plan.solvers.forEach((_, k) => acc.methods[k].weights.summarize(plan.problem.proposalWeights)));
+time('buildReport', () => buildReport(plan, acc, { version: 'x', inputDigest: digest, elapsedMs: 0 }));
+time('buildReport again', () => buildReport(plan, acc, { version: 'x', inputDigest: digest, elapsedMs: 0 }));
