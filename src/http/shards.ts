@@ -114,7 +114,7 @@ export const stressRangeRoute: RouteDefinition = {
   operationId: 'stressRange',
   summary: 'Compute one range of a stress request’s draws and answer its partial result',
   description:
-    'Body: `{proposal, draws, seed, start, end}` — the proposal, the whole request’s draws and seed, and the range [start, end) with 0 ≤ start < end ≤ draws. Answers the draws’ accumulated slots in the versioned binary form `application/vnd.wobble.partial`, for a caller that fans ranges out and merges them into the same report as one run (the CLI’s `--remote URL --shards N`; README "Scaling out"). Each range is held to one request’s work for its share of the draws.',
+    'Body: `{proposal, draws, seed, start, end}` — the proposal, the whole request’s draws and seed, and the range [start, end) with 0 ≤ start < end ≤ draws. Answers the draws’ accumulated slots in the versioned binary form `application/vnd.wobble.partial`, for a caller that fans ranges out and merges them into the same report as one run (the CLI’s `--remote URL --shards N`; README "Scaling out"). Each range is held to one request’s work for its share of the draws. The draws run in chunks; when the caller goes away (closes the connection or aborts), the range stops at its next chunk (409 when anyone still listens).',
   tag: 'report',
   protected: true,
   cache: 'noStore',
