@@ -54,6 +54,11 @@ export class ShardRequestError extends Error {
 /** Lets other events run between chunks of draws: a client's disconnect, a shard's cancel message. */
 export const yieldToEvents = (): Promise<void> => new Promise<void>((resolve) => setTimeout(resolve, 0));
 
+export interface RangeResponseOptions extends RangeComputeOptions {
+  /** Told the range [start, end) once the body is valid (a shard object's status). */
+  readonly onRange?: (start: number, end: number) => void;
+}
+
 /**
  * Computes one range here and answers its partial, or problem+json (400/413/422; 409 when cancelled).
  *
@@ -64,11 +69,6 @@ export const yieldToEvents = (): Promise<void> => new Promise<void>((resolve) =>
  * pauses the runtime could not deliver the disconnect: one synchronous run would go to its end.
  * A cancelled range is logged (draws done, why) for the operator; its 409 usually reaches no one.
  */
-export interface RangeResponseOptions extends RangeComputeOptions {
-  /** Told the range [start, end) once the body is valid (a shard object's status). */
-  readonly onRange?: (start: number, end: number) => void;
-}
-
 export async function rangeResponse(request: Request, options: RangeResponseOptions = {}): Promise<Response> {
   const body = await readJsonBody(request);
   if (!body.ok) return problemResponse(body.status, body.detail, body.errors ? { errors: body.errors } : {});
