@@ -212,7 +212,7 @@ export function judge(
         bound,
         pass,
         message:
-          `${change} (change ${fmt(increase)}); with ${percent(confidence)} confidence it rose by at least ${fmt(bound)}: now ${after.words}, before ${prior.words}; ` +
+          `${change} (change ${fmt(increase)}); with ${percent(confidence)} confidence it rose by at least ${fmt(bound)} (now: ${after.words}; before: ${prior.words}); ` +
           `the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}${noted(notes)}.`,
       };
     }
