@@ -115,7 +115,8 @@ function boundOf(metric: PolicyRule['metric'], est: MetricEstimate, side: 'lower
     return { bound: b.bound, words: `with ${percent(confidence)} confidence for all assets at once, the largest weight sd is ${atLeast} ${fmt(b.bound)}`, note: '' };
   }
   if (est.stdErr === null) return { bound: est.value, words: `it is ${fmt(est.value)}`, note: NOT_ESTIMABLE };
-  const z = normalQuantile(1 - alpha);
+  // confidence = 1 − alpha, passed as given so z is the policy's own Φ⁻¹(confidence).
+  const z = normalQuantile(confidence);
   const bound = est.value + sign * z * est.stdErr;
   const note = isSimultaneousMetric(metric) ? NO_RUN_DATA : '';
   return { bound, words: `with ${percent(confidence)} confidence it is ${atLeast} ${fmt(bound)} (value ${side === 'lower' ? '−' : '+'} ${fmt(z)} × se)`, note };
