@@ -63,15 +63,60 @@ describe('ChannelVarianceAccumulator', () => {
       covarianceOnly.record(b, 'mean-only', constant);
       covarianceOnly.record(b, 'covariance-only', rowOf(b, 'cov', 0.1, row));
     }
-    const one = meanOnly.summarize();
+    const one = meanOnly.summarize({ covarianceChannelFixed: true });
     expect(one.overall).toBe(1);
     expect(Array.from(one.perAsset)).toEqual([1, 1, 1, 1]);
     expect(Array.from(one.covarianceChannelVariance)).toEqual([0, 0, 0, 0]);
-    expect(one.overallStdErr).toBe(0);
-    const zero = covarianceOnly.summarize();
+    expect([one.overallStdErr, one.overallErrorMethod]).toEqual([0, 'exact']);
+    // A method that ignores the means: the share is 0 by construction, its error exactly 0.
+    const zero = covarianceOnly.summarize({ meanChannelFixed: true });
     expect(zero.overall).toBe(0);
     expect(Array.from(zero.perAsset)).toEqual([0, 0, 0, 0]);
-    expect(zero.overallStdErr).toBe(0);
+    expect([zero.overallStdErr, zero.overallErrorMethod]).toEqual([0, 'exact']);
+    // The same draws from a channel that could have moved but did not: the share is 1 (or 0) as
+    // far as these draws show, but a rare move none of them made would change it, so no error is claimed.
+    const unseen = meanOnly.summarize();
+    expect(unseen.overall).toBe(1);
+    expect(unseen.overallErrorMethod).toBe('not-estimable');
+    expect(unseen.overallStdErr).toBeNaN();
+    expect(unseen.covarianceChannelEffectiveGroups).toBe(0);
+    // Rule of three: no move in 200 draws ⇒ rate < 3/200, so ≥ 200·5/3 draws for about 5 moves.
+    expect(unseen.drawsForEstimableError).toBe(334);
+    expect(covarianceOnly.summarize().overallErrorMethod).toBe('not-estimable');
+  });
+
+  it('a channel that moves in one rare draw: not estimable; moves spread over the groups: jackknife', () => {
+    // Kish (1965, Survey Sampling §11.7): effective number (Σ T_k)²/Σ T_k² is 1 when one group
+    // carries all the spread and m when all m groups carry the same.
+    const B = 200;
+    const row = new Float64Array(N);
+    const corner = Float64Array.of(0, 1, 0, 0);
+    const moved = Float64Array.of(0.1, 0.9, 0, 0);
+    const rare = new ChannelVarianceAccumulator(B, N);
+    const spread = new ChannelVarianceAccumulator(B, N);
+    for (let b = 0; b < B; b++) {
+      rare.record(b, 'mean-only', rowOf(b, 'mean', 0.1, row));
+      spread.record(b, 'mean-only', rowOf(b, 'mean', 0.1, row));
+      rare.record(b, 'covariance-only', b === 57 ? moved : corner);
+      // One move in every group of 10 draws (20 groups).
+      spread.record(b, 'covariance-only', b % 10 === 3 ? moved : corner);
+    }
+    const one = rare.summarize();
+    // By hand, per moved asset with deviation d: the moved draw's group holds 0.9d² within and
+    // 10(d/10 − d/200)² = 0.09025d² between; each of the other 19 groups 10(d/200)² = 0.00025d².
+    // (0.995)²/(0.99025² + 19·0.00025²) = 1.0096153…
+    expect(one.covarianceChannelEffectiveGroups).toBeCloseTo(0.990025 / (0.99025 ** 2 + 19 * 0.00025 ** 2), 9);
+    expect(one.meanChannelEffectiveGroups).toBeGreaterThan(15);
+    expect(one.overall).toBeLessThan(1);
+    expect(one.overallErrorMethod).toBe('not-estimable');
+    expect(one.overallStdErr).toBeNaN();
+    // One effective group in 200 draws: about 200·5/1 draws give five.
+    expect(one.drawsForEstimableError).toBeGreaterThanOrEqual(990);
+    expect(one.drawsForEstimableError).toBeLessThanOrEqual(1000);
+    const many = spread.summarize();
+    expect(many.covarianceChannelEffectiveGroups).toBeCloseTo(20, 6);
+    expect(many.overallErrorMethod).toBe('jackknife');
+    expect(many.overallStdErr).toBeGreaterThan(0);
   });
 
   it('both channels constant (e.g. equal weight): share 0; tiny B: conservative error 0.5', () => {
@@ -81,6 +126,7 @@ describe('ChannelVarianceAccumulator', () => {
       flat.record(b, 'covariance-only', [0.5, 0.5]);
     }
     expect(flat.summarize().overall).toBe(0);
+    expect(flat.summarize().overallStdErr).toBe(0);
     const tiny = new ChannelVarianceAccumulator(5, 1);
     for (let b = 0; b < 5; b++) {
       tiny.record(b, 'mean-only', [b * 0.1]);
