@@ -169,6 +169,18 @@ describe('D5: a constant return column (variance ~1e-36)', () => {
     for (const m of report.methods) {
       if (m.base.diagnostics.converged) expect(m.base.diagnostics.kktResidual).toBeLessThanOrEqual(ACCEPTED_KKT_RESIDUAL);
     }
+    // Minimum variance is solved, not left out: its optimum is the riskless corner, all in A5
+    // (wᵀΣw ≈ 1e-36 is the least variance any portfolio can have), with its KKT conditions met
+    // on a scale that means something there (kkt.ts), in the base solve and in every draw.
+    expect(excluded.some((m) => /^minimum-variance/.test(m))).toBe(false);
+    const minimumVariance = report.methods.find((m) => m.method.name === 'minimum-variance');
+    expect(minimumVariance?.base.diagnostics.converged).toBe(true);
+    expect(minimumVariance?.base.diagnostics.kktResidual).toBeLessThanOrEqual(ACCEPTED_KKT_RESIDUAL);
+    expect(minimumVariance?.base.weights).toEqual([0, 0, 0, 0, 1]);
+    expect(minimumVariance?.failedDraws).toBe(0);
+    expect(minimumVariance?.weights[4].p05).toBeCloseTo(1, 12);
+    // The warning says minimum variance treats A5 as riskless: the reader learns why it is all in A5.
+    expect(warning?.message).toMatch(/minimum variance .* treat it as riskless/);
   });
 
   it('as the proposal method, risk parity is refused with a 422 naming the asset', async () => {
