@@ -119,6 +119,43 @@ describe('ChannelVarianceAccumulator', () => {
     expect(many.overallStdErr).toBeGreaterThan(0);
   });
 
+  it('rare moves (Poisson, λ per run): null when a run cannot show them, calibrated when it can', () => {
+    // Across reruns the share's sd over the mean reported error should be about 1 (common
+    // practice for judging a standard error). Without the rule a run seeing λ ≈ 1 move reports
+    // on average λ·δ against a true spread √λ·δ (ratio 1/√λ); with it such runs report null.
+    const B = 200;
+    const K = 200;
+    const row = new Float64Array(N);
+    const run = (lambda: number, seed: number): { share: number; stdErr: number } => {
+      const random = seedrandom(`rare-${lambda}-${seed}`);
+      const acc = new ChannelVarianceAccumulator(B, N);
+      for (let b = 0; b < B; b++) {
+        for (let i = 0; i < N; i++) row[i] = 0.25 + 0.3 * (random() - 0.5);
+        acc.record(b, 'mean-only', row);
+        row.fill(0);
+        row[1] = 1;
+        if (random() < lambda / B) {
+          const d = 0.05 + 0.3 * random();
+          row[0] = d;
+          row[1] = 1 - d;
+        }
+        acc.record(b, 'covariance-only', row);
+      }
+      const s = acc.summarize();
+      return { share: s.overall, stdErr: s.overallStdErr };
+    };
+    const rare = Array.from({ length: K }, (_, s) => run(1, s));
+    expect(rare.filter((r) => Number.isNaN(r.stdErr)).length).toBeGreaterThanOrEqual(K - 2);
+    const frequent = Array.from({ length: K }, (_, s) => run(50, s));
+    expect(frequent.every((r) => Number.isFinite(r.stdErr))).toBe(true);
+    const mean = frequent.reduce((a, r) => a + r.share, 0) / K;
+    const spread = Math.sqrt(frequent.reduce((a, r) => a + (r.share - mean) ** 2, 0) / (K - 1));
+    const meanError = frequent.reduce((a, r) => a + r.stdErr, 0) / K;
+    // The ratio's own noise with K = 200 is about 1/√(2(K−1)) = 5 %.
+    expect(spread / meanError).toBeGreaterThan(0.8);
+    expect(spread / meanError).toBeLessThan(1.2);
+  });
+
   it('both channels constant (e.g. equal weight): share 0; tiny B: conservative error 0.5', () => {
     const flat = new ChannelVarianceAccumulator(30, 2);
     for (let b = 0; b < 30; b++) {
