@@ -30,16 +30,17 @@ export const POWER_ITERATIONS = 30;
  */
 export const GROUP_UNITS_FACTOR = 170;
 /**
- * A warm-started solve (every per-draw solve starts from the base optimum's working set) pays the
- * cold group term times (G / (N + G))^WARM_GROUP_EXPONENT. Measured per-draw solves with
- * overlapping groups (noisy parametric draws, `npm run bench:work-model`): with few groups
- * against many assets the working set barely moves (N = 300, 50 groups: 2 % of the cold term's
- * time per unit; N = 30, 1 group: a few iterations), while with more groups than assets it moves
- * as much as a cold solve (N = 100, 200 groups: 534 iterations per solve, 30 % of the cold term).
- * An exponent of 2 is the measured envelope at the cold worst rate; 1.5 keeps a factor of 2–3 to
- * spare on the shapes measured.
+ * A warm-started solve (every per-draw solve starts from the base optimum's working set, which is
+ * feasible for the draw: only H and c move) pays the cold group term times min(1, G / N)^2.
+ * Measured per-draw solves with overlapping groups (noisy parametric draws, `npm run
+ * bench:work-model`), as the share of the cold term each needs to stay at the cold worst rate:
+ * N = 300 with 50 groups 0.022 (charged 0.028), N = 100 with 50 groups 0.023 (0.25), N = 30 with
+ * 10 groups 0.066 (0.11), N = 30 with 50 groups 0.056 (1), N = 100 with 200 groups 0.30 (1: 534
+ * iterations and 1.2 s per solve, as much as a cold solve). With one group against 30 assets the
+ * term is a few hundred units. Not measured warm: N = 300 with 200 groups (a cold solve there is
+ * 35 s; its stress is refused at one draw anyway, the cold base optima alone being 2·10¹⁰).
  */
-export const WARM_GROUP_EXPONENT = 1.5;
+export const WARM_GROUP_EXPONENT = 2;
 /**
  * Fixed cost of any solve, whatever its size: the result object, KKT residual, diagnostics and
  * warnings (measured: 0.1–0.5 ms per solve at N ≤ 30, where the flop counts are a few thousand;
@@ -106,7 +107,7 @@ export function estimationUnits(s: RequestShape): number {
 export function groupUnits(s: RequestShape, start: SolveStart = 'cold'): number {
   if (s.groups === 0) return 0;
   const cold = GROUP_UNITS_FACTOR * (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
-  return start === 'cold' ? cold : cold * (s.groups / (s.n + s.groups)) ** WARM_GROUP_EXPONENT;
+  return start === 'cold' ? cold : cold * Math.min(1, s.groups / s.n) ** WARM_GROUP_EXPONENT;
 }
 
 /** One solve of a method on dense or factor inputs, cold (a base optimum) or warm-started (a draw). */
