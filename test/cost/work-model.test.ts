@@ -144,12 +144,14 @@ describe('work model against measured CPU', () => {
     expect(verdict.work).toBeLessThan(LIMITS.maxWorkUnits / 2);
   });
 
-  it('prices a warm-started draw below a cold solve, by the share the groups move the working set', () => {
+  it('prices a warm-started draw by the share of a cold solve the groups make it move the working set', () => {
     const few = shapeNamed('dense N=300, parametric (60 obs.), mean-variance + minimum-variance, 50 ');
     const many = shapeNamed('dense N=100, parametric (60 obs.), mean-variance + minimum-variance, 200 ');
-    for (const s of [few, many]) expect(groupUnits(s, 'warm')).toBeLessThan(groupUnits(s, 'cold'));
+    // 50 groups on 300 assets: the working set barely moves (2.2 % of the cold term measured).
+    expect(groupUnits(few, 'warm') / groupUnits(few, 'cold')).toBeGreaterThan(0.022);
     expect(groupUnits(few, 'warm') / groupUnits(few, 'cold')).toBeLessThan(0.1);
-    expect(groupUnits(many, 'warm') / groupUnits(many, 'cold')).toBeGreaterThan(0.3);
+    // More groups than assets: a warm solve took as long as a cold one (534 iterations), priced so.
+    expect(groupUnits(many, 'warm')).toBe(groupUnits(many, 'cold'));
     const plain = shapeNamed('dense N=300, parametric (60 obs.), mean-variance + minimum-variance, 0 ');
     expect(groupUnits(plain, 'warm')).toBe(0);
   });
