@@ -10,7 +10,9 @@ export const EXIT_CODES_TEXT = `Exit codes:
   1  check: a gate rule failed
   2  input or usage error (invalid proposal or policy, unreadable file, unknown or inapplicable option,
      a request over a limit or with no solution)
-  3  internal error (a bug in wobble; please report it with the input)`;
+  3  internal error (a bug in wobble; please report it with the input), or a thread or shard that
+     failed on its retry too (the message names it)
+  130 interrupted (Ctrl-C during a --remote run; the service's ranges were stopped, no report)`;
 
 export const USAGE = `wobble ${VERSION} — robustness stress for proposed allocations
 

@@ -1,4 +1,4 @@
-import { ShardFailedError } from '../scale/errors.js';
+import { RangeCancelledError, ShardFailedError } from '../scale/errors.js';
 import { MAX_SHARDS } from '../scale/limits.js';
 import type { DrawRunner } from '../stress/run.js';
 import { EXIT, UsageError } from './io.js';
@@ -23,7 +23,7 @@ export function scaleRunner(values: { threads?: string; remote?: string; shards?
     }
     if (url.protocol !== 'https:' && url.protocol !== 'http:') throw new UsageError(`--remote must be an http(s) URL, got "${values.remote}"`);
     const shards = values.shards === undefined ? 4 : positiveInt(values.shards, '--shards', MAX_SHARDS);
-    return remoteRunner(values.remote, shards, env.WOBBLE_API_TOKEN || undefined);
+    return remoteRunner(values.remote, shards, env.WOBBLE_API_TOKEN || undefined, { interruptible: true });
   }
   if (values.shards !== undefined) throw new UsageError('--shards needs --remote URL (threads on this machine: --threads N)');
   if (values.threads === undefined) {
@@ -34,8 +34,18 @@ export function scaleRunner(values: { threads?: string; remote?: string; shards?
   return threads > 1 ? threadRunner(threads, false) : undefined;
 }
 
-/** A failed or refused shard/thread: the message names it; refusals (4xx) are input errors, failures exit 3. */
+/** Exit status after Ctrl-C: 128 + SIGINT (2), the shell convention. */
+const EXIT_INTERRUPTED = 130;
+
+/**
+ * A failed or refused shard/thread: the message names it; refusals (4xx) are input errors, failures
+ * exit 3. An interrupted run (Ctrl-C) says that its ranges were stopped and exits 130.
+ */
 export function scaleFailureExit(e: unknown): number | undefined {
+  if (e instanceof RangeCancelledError) {
+    process.stderr.write('wobble: interrupted; the ranges still running were stopped (no report)\n');
+    return EXIT_INTERRUPTED;
+  }
   if (!(e instanceof ShardFailedError)) return undefined;
   process.stderr.write(`wobble: ${e.message}\n`);
   return e.status >= 400 && e.status < 500 ? EXIT.usage : 3;

@@ -2,6 +2,7 @@ import { RangeCancelledError, ShardFailedError } from '../scale/errors.js';
 import { z } from 'zod';
 import { AUTO_SHARD_WORK, automaticShards, MAX_SHARDS, shardedWorkShares } from '../scale/limits.js';
 import { readPartialResponse } from '../scale/partial-response.js';
+import { describeRange } from '../scale/ranges.js';
 import { computeRange, RangeProposalError, RangeRequestSchema, type RangeComputeOptions } from '../scale/range-job.js';
 import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
 import { PARTIAL_MEDIA_TYPE } from '../scale/wire.js';
@@ -50,8 +51,25 @@ export class ShardRequestError extends Error {
   }
 }
 
-/** Computes one range here and answers its partial, or problem+json (400/413/422; 409 when cancelled). */
-export async function rangeResponse(request: Request, options: RangeComputeOptions = {}): Promise<Response> {
+/** Lets other events run between chunks of draws: a client's disconnect, a shard's cancel message. */
+export const yieldToEvents = (): Promise<void> => new Promise<void>((resolve) => setTimeout(resolve, 0));
+
+export interface RangeResponseOptions extends RangeComputeOptions {
+  /** Told the range [start, end) once the body is valid (a shard object's status). */
+  readonly onRange?: (start: number, end: number) => void;
+}
+
+/**
+ * Computes one range here and answers its partial, or problem+json (400/413/422; 409 when cancelled).
+ *
+ * The draws run in chunks (about a fifth of a second each, src/scale/range-job.ts) with a pause
+ * between them, and the range stops at the next pause once `request.signal` aborts — the client
+ * went away (the `enable_request_signal` compatibility flag in wrangler.toml; a cancelled
+ * subrequest to a Durable Object aborts it too) — or `options.cancelled` says so. Without the
+ * pauses the runtime could not deliver the disconnect: one synchronous run would go to its end.
+ * A cancelled range is logged (draws done, why) for the operator; its 409 usually reaches no one.
+ */
+export async function rangeResponse(request: Request, options: RangeResponseOptions = {}): Promise<Response> {
   const body = await readJsonBody(request);
   if (!body.ok) return problemResponse(body.status, body.detail, body.errors ? { errors: body.errors } : {});
   const parsed = RangeRequestSchema.safeParse(body.value);
@@ -59,15 +77,27 @@ export async function rangeResponse(request: Request, options: RangeComputeOptio
     const problems = problemsFromZod(parsed.error.issues);
     return problemResponse(400, summarise(problems), { errors: problems });
   }
+  const clientGone = (): boolean => request.signal?.aborted === true;
+  options.onRange?.(parsed.data.start, parsed.data.end);
   try {
-    const bytes = await computeRange(parsed.data, options);
+    const { onRange: _onRange, ...computeOptions } = options;
+    const bytes = await computeRange(parsed.data, {
+      ...computeOptions,
+      pause: options.pause ?? yieldToEvents,
+      cancelled: () => clientGone() || options.cancelled?.() === true,
+    });
     return new Response(bytes as Uint8Array<ArrayBuffer>, { headers: { 'content-type': PARTIAL_MEDIA_TYPE, 'content-length': String(bytes.byteLength) } });
   } catch (e) {
     if (e instanceof RangeProposalError) {
       const problems = e.problems.map((p) => ({ ...p, path: p.path ? `proposal.${p.path}` : 'proposal', pointer: `/proposal${p.pointer}` }));
       return problemResponse(statusFor(problems), summarise(problems), { errors: problems });
     }
-    if (e instanceof RangeCancelledError) return problemResponse(409, e.message);
+    if (e instanceof RangeCancelledError) {
+      const why = clientGone() ? 'its caller went away' : 'the coordinating request stopped it';
+      const { start, end } = parsed.data;
+      console.info(`wobble range: ${describeRange({ start, end })} ${e.message} (${why})`);
+      return problemResponse(409, `${e.message} (${why})`);
+    }
     const known = classifyError(e);
     if (!known) throw e;
     return problemResponse(known.status, known.detail);
@@ -84,7 +114,7 @@ export const stressRangeRoute: RouteDefinition = {
   operationId: 'stressRange',
   summary: 'Compute one range of a stress request’s draws and answer its partial result',
   description:
-    'Body: `{proposal, draws, seed, start, end}` — the proposal, the whole request’s draws and seed, and the range [start, end) with 0 ≤ start < end ≤ draws. Answers the draws’ accumulated slots in the versioned binary form `application/vnd.wobble.partial`, for a caller that fans ranges out and merges them into the same report as one run (the CLI’s `--remote URL --shards N`; README "Scaling out"). Each range is held to one request’s work for its share of the draws.',
+    'Body: `{proposal, draws, seed, start, end}` — the proposal, the whole request’s draws and seed, and the range [start, end) with 0 ≤ start < end ≤ draws. Answers the draws’ accumulated slots in the versioned binary form `application/vnd.wobble.partial`, for a caller that fans ranges out and merges them into the same report as one run (the CLI’s `--remote URL --shards N`; README "Scaling out"). Each range is held to one request’s work for its share of the draws. The draws run in chunks; when the caller goes away (closes the connection or aborts), the range stops at its next chunk (409 when anyone still listens).',
   tag: 'report',
   protected: true,
   cache: 'noStore',
@@ -93,7 +123,13 @@ export const stressRangeRoute: RouteDefinition = {
   handle: (c, config) => rangeResponse(c.req.raw, { limits: { maxWork: config.maxWork } }),
 };
 
-/** Computes each range in a new Durable Object (a retry gets a new object); cancels it when the request stops. */
+/**
+ * Computes each range in a new Durable Object (a retry gets a new object). When the request stops
+ * (its client went away, or another shard failed for good) the object hears it twice over: its
+ * /range subrequest is cancelled, which aborts that request's signal inside the object, and a
+ * cancel message is sent in case the runtime lets the subrequest run on. Either way the object
+ * stops at its next chunk of draws.
+ */
 export function durableObjectExecutor(namespace: ShardNamespace): RangeExecutor {
   return async (request, { range, attempt, signal }) => {
     const stub = namespace.get(namespace.newUniqueId() as never);
@@ -103,7 +139,7 @@ export function durableObjectExecutor(namespace: ShardNamespace): RangeExecutor 
     };
     signal.addEventListener('abort', cancel, { once: true });
     try {
-      const response = await stub.fetch('https://shard/range', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(request) });
+      const response = await stub.fetch('https://shard/range', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(request), signal });
       if (signal.aborted) throw new RangeCancelledError();
       return await readPartialResponse(response, `shard ${range.index} (attempt ${attempt})`);
     } finally {

@@ -84,6 +84,13 @@ main.report { max-width: 1120px; margin: 0 auto; padding: 24px 20px 48px; }
 .report td:last-child:not(.num) { min-width: 18em; }
 .report tbody tr:nth-child(even) td { background: #fafbfd; }
 .report tr.outside td { background: #fff4ea; }
+.report table.positions tbody th { font-weight: normal; white-space: nowrap; background: none; }
+.report table.positions tbody.asset tr td, .report table.positions tbody.asset tr:nth-child(even) td { background: none; }
+.report table.positions tbody.asset:nth-of-type(even) th, .report table.positions tbody.asset:nth-of-type(even) td { background: #fafbfd; }
+.report table.positions tbody.outside th, .report table.positions tbody.outside td { background: #fff4ea; }
+.report table.positions tr.note-row td { border-bottom: 1px solid var(--line); color: var(--ink); font-size: 0.85rem; padding-top: 0; min-width: 0; white-space: normal; }
+.report table.positions .note-text { position: sticky; left: 8px; max-width: calc(100vw - 56px); }
+.report table.positions tbody.asset tr:first-child:not(:last-child) > * { border-bottom: 0; }
 .report ul.findings li { margin: 4px 0; }
 .report details { margin: 10px 0; border: 1px solid var(--line); border-radius: 6px; padding: 6px 12px; }
 .report details > summary { cursor: pointer; font-weight: 600; }
@@ -305,19 +312,26 @@ function positionsSection(r: Report, pm: MethodReport | undefined): string {
   const n = methodDraws(r, pm);
   const charted = chartRows(r, pm).length;
   const notes = r.summary.assetNotes;
-  const rows = r.assets.map((asset, i) => {
+  // One row group per asset: its figures, then its note (if any) on a row of its own beneath
+  // them, so a long note never widens the table. The asset name heads the whole group
+  // (scope="rowgroup"), so a screen reader reads the note with its asset. On a narrow screen the
+  // figures scroll inside the table's box while the note text stays in view (sticky at its left).
+  const groups = r.assets.map((asset, i) => {
     const b = pm.weights[i];
     const w = r.proposal.weights[i];
     const position = bandPosition(w, b.p05, b.p95);
     const flag = position === 'inside' ? '' : ` <span class="badge outside">${position} band</span>`;
+    const note = notes[i] ?? '';
+    const figures = [formatPercent(w), `${formatPercentRange(b.p05, b.p95)} ± ${formatPercent(b.bandStdErr)}`, formatPercentileRank(b.proposalPercentile), formatPercent(pm.meanDrivenShare.perAsset[i] ?? 0)];
     return (
-      `<tr${position === 'inside' ? '' : ' class="outside"'}>${cell(escapeHtml(asset) + flag)}` +
-      [formatPercent(w), `${formatPercentRange(b.p05, b.p95)} ± ${formatPercent(b.bandStdErr)}`, formatPercentileRank(b.proposalPercentile), formatPercent(pm.meanDrivenShare.perAsset[i] ?? 0)]
-        .map((t) => cell(escapeHtml(t), true))
-        .join('') +
-      `<td class="notes">${escapeHtml(notes[i] ?? '')}</td></tr>`
+      `<tbody class="asset${position === 'inside' ? '' : ' outside'}"><tr><th scope="rowgroup">${escapeHtml(asset) + flag}</th>` +
+      figures.map((t) => cell(escapeHtml(t), true)).join('') +
+      '</tr>' +
+      (note === '' ? '' : `<tr class="note-row"><td class="notes" colspan="${figures.length + 1}"><div class="note-text">${escapeHtml(note)}</div></td></tr>`) +
+      '</tbody>'
     );
   });
+  const header = ['Asset', 'Proposal', 'p05 – p95 ± se', LABELS.proposalPercentile, LABELS.meanDrivenShare];
   return join([
     `<section aria-labelledby="positions-title"><h2 id="positions-title">Weights against ${escapeHtml(methodLabel(pm.method))}, re-optimised ${escapeHtml(formatCount(n))} times</h2>`,
     `<p class="note">Each band is where the re-optimised weights fall in 90 % of the resampled input sets (p05–p95); the marker is the proposal. ` +
@@ -325,12 +339,9 @@ function positionsSection(r: Report, pm: MethodReport | undefined): string {
     charted < r.assets.length ? `<p class="note">The chart shows the ${charted} positions furthest outside their band (then the most variable); the table lists all ${r.assets.length}.</p>` : '',
     legend(),
     `<div class="chart-wrap">${bandChartSvg(r, pm)}</div>`,
-    htmlTable(
-      `Per asset. ${escapeHtml(LABELS.proposalPercentile)}: where the proposal falls among the re-optimised weights (0–100). ${escapeHtml(LABELS.meanDrivenShare)}: the share of a weight’s variability caused by noise in the return forecasts. ± se: Monte Carlo standard error of the band edges. Notes use the thresholds in the README.`,
-      ['Asset', 'Proposal', 'p05 – p95 ± se', LABELS.proposalPercentile, LABELS.meanDrivenShare, 'Note'],
-      rows,
-      (c) => c > 0 && c < 5,
-    ),
+    `<p class="note">${escapeHtml(LABELS.proposalPercentile)}: where the proposal falls among the re-optimised weights (0–100). ${escapeHtml(LABELS.meanDrivenShare)}: the share of a weight’s variability caused by noise in the return forecasts. ± se: Monte Carlo standard error of the band edges. The note under an asset's figures uses the thresholds in the README.</p>`,
+    `<div class="table-wrap"><table class="positions"><caption>Per asset</caption>` +
+      `<thead>${headerRow(header, (c) => c > 0)}</thead>${groups.join('')}</table></div>`,
     '</section>',
   ]);
 }

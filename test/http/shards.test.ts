@@ -145,7 +145,7 @@ describe('POST /v1/stress/range', () => {
       expect(new Headers(init?.headers).get('authorization')).toBe('Bearer secret-token');
       return app.request(String(url), init);
     }) as typeof fetch;
-    const report = await stressProposal(v.proposal, v.warnings, { drawRunner: remoteRunner('https://wobble.test/', 3, 'secret-token', fetchThroughApp) });
+    const report = await stressProposal(v.proposal, v.warnings, { drawRunner: remoteRunner('https://wobble.test/', 3, 'secret-token', { fetchImpl: fetchThroughApp }) });
     expect(report.meta.shards).toBe(3);
     expect(seen).toEqual(Array(3).fill('https://wobble.test/v1/stress/range'));
     expect(comparable(report)).toBe(comparable(await stressProposal(v.proposal, v.warnings)));

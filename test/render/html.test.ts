@@ -68,12 +68,17 @@ describe('renderReportHtml', () => {
     expect(embedded).toContain('id="answer-title"');
   });
 
-  it('puts each asset note from the summary in the compact table', () => {
+  it('puts each asset note from the summary under its asset in the compact table', () => {
     const section = html.slice(html.indexOf('id="positions-title"'), html.indexOf('</section>', html.indexOf('id="positions-title"')));
-    report.summary.assetNotes.forEach((note) => {
-      if (note !== '') expect(section).toContain(`<td class="notes">${escapeHtml(note)}</td>`);
+    const groups = section.split('<tbody class="asset').slice(1);
+    expect(groups.length).toBe(report.assets.length);
+    report.summary.assetNotes.forEach((note, i) => {
+      // Each asset is one row group headed by its name; a note is a row of its own beneath the figures.
+      expect(groups[i]).toContain(`<th scope="rowgroup">${escapeHtml(report.assets[i])}`);
+      if (note !== '') expect(groups[i]).toContain(`<td class="notes" colspan="5"><div class="note-text">${escapeHtml(note)}</div></td>`);
+      else expect(groups[i]).not.toContain('class="notes"');
     });
-    expect((section.match(/<td class="notes">/g) ?? []).length).toBe(report.assets.length);
+    expect(report.summary.assetNotes.some((n) => n !== '')).toBe(true);
   });
 
   it('contains every asset, method, finding and warning', () => {
@@ -119,7 +124,7 @@ describe('renderReportHtml', () => {
 
   it('marks the outside-band row and opens the proposal method details', () => {
     expect(html).toContain('emerging-equity <span class="badge outside">above band</span>');
-    expect((html.match(/<tr class="outside">/g) ?? []).length).toBe(1);
+    expect((html.match(/<tbody class="asset outside">/g) ?? []).length).toBe(1);
     expect(html).toMatch(/<details open><summary>mean-variance \(λ = 4\) — the proposal’s method<\/summary>/);
   });
 

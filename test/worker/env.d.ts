@@ -13,4 +13,6 @@ declare module 'cloudflare:test' {
   }
   export const SELF: { fetch(input: string | Request, init?: RequestInit): Promise<Response> };
   export const env: ProvidedEnv;
+  /** Runs `callback` inside the Durable Object behind `stub` (here: to reset it, see shard-faults.ts). */
+  export function runInDurableObject<R>(stub: ShardStub, callback: (instance: unknown, state: { abort(reason?: string): void }) => R | Promise<R>): Promise<R>;
 }
