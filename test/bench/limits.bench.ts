@@ -8,7 +8,7 @@
  *
  *   npm run bench:limits                 every shape at its largest accepted draws
  *   npm run bench:limits -- --fraction 0.1   draws of the worst shapes scaled down (ns/unit holds; quicker; ordinary shapes keep theirs)
- *   npm run bench:limits -- --only check     shapes whose name contains "check"
+ *   npm run bench:limits -- --only check,ordinary     shapes whose name contains "check" or "ordinary"
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
@@ -29,7 +29,7 @@ const rows: { name: string; text?: string; units?: number; cpuMs?: number; rest?
 let worst = 0;
 try {
   for (const shape of [...limitShapes(fraction), ...ordinaryShapes()]) {
-    if (values.only && !shape.name.includes(values.only)) continue;
+    if (values.only && !values.only.split(',').some((part) => shape.name.includes(part))) continue;
     const file = join(dir, 'request.json');
     writeFileSync(file, JSON.stringify({ job: shape.job, body: shape.body, baseline: shape.baseline }));
     const run = spawnSync(process.execPath, ['--expose-gc', '--import', 'tsx', child, file], { encoding: 'utf8', maxBuffer: 1 << 26 });
