@@ -8,10 +8,16 @@
  * Figures whose error is exactly 0 in every seed and whose value never moves are counted as
  * "exact" (point masses); a figure with stdErr 0 that does move is flagged.
  *
- * It also prints the gate's false-fail rate: a `max` rule placed exactly at the true value (from
- * long runs, L seeds × 5000 draws, pooled with the K runs at that draw count, weighted by draws) fails when value − z·stdErr > threshold, z = Φ⁻¹(0.95)
- * (one-sided, 95 % confidence); an honest error fails about 5 % of the time (goal ≤ 6 %). The same
- * for `maxIncrease` rules against a baseline proposal on common random numbers (paired errors).
+ * It also runs the gate itself (`judge`, as `check` does) on rules placed exactly at the true
+ * value, 95 % confidence, and prints how often they fail (false fails; goal ≤ 6 %): `max` rules,
+ * `min` rules, and `maxIncrease` rules against a baseline proposal on common random numbers; and
+ * the power: how often a `max` (and `maxIncrease`) rule one step below the truth fails — one asset
+ * (1/N) for the outside-band share, 20 % of the true value for the other figures.
+ * The truth: for smooth figures the mean of long runs (L seeds × 5000 draws) pooled with the K runs
+ * at that draw count, weighted by draws. For the outside-band share and the max weight sd, whose
+ * expectation at B draws is not the value a rule can hold exactly, the limit figure: the share (or
+ * the largest per-asset sd) of the L long runs' draws pooled into one sample; the script prints
+ * whether that pooled sample classifies every asset at 99 % (the limit share is then known).
  *
  * Usage: npm run calibrate -- [--case d1|demo] [--seeds K] [--draws 200,500,2000] [--long-seeds L]
  * The cases: test/fixtures/cases/D1-mc-error-history.json (4 assets, 120 months, seven methods;
@@ -26,8 +32,12 @@ import { validateProposal, type Warning } from '../src/schema/validate.js';
 import { methodKey } from '../src/stress/report.js';
 import { pairedStdErr, type StressRun } from '../src/stress/paired.js';
 import { stressRun } from '../src/stress/run.js';
+import { figureBoundsOf, type FigureBound, type FigureBoundSource } from '../src/stress/gate-bounds.js';
+import { judge } from '../src/stress/verdict.js';
+import { PolicySchema, type PolicyRule } from '../src/schema/proposal.js';
+import { stridedMoments } from '../src/statistics/batch-means.js';
+import { BAND_EDGE_TOLERANCE, outsideBandCounts, outsideBandShareBound, outsideBandShareOver } from '../src/statistics/stability.js';
 
-const Z95_ONE_SIDED = 1.6448536269514722;
 const GATE_METRICS = ['turnover-from-proposal.p50', 'turnover-from-proposal.mean', 'outside-band-share', 'volatility-band-width', 'mean-driven-share', 'max-weight-sd'] as const;
 type GateMetric = (typeof GATE_METRICS)[number];
 
@@ -167,6 +177,62 @@ function valid(input: ProposalInput): { proposal: Proposal; warnings: Warning[] 
   return v;
 }
 
+const CONFIDENCE = 0.95;
+/** The levels the gate asks bounds at: α for max and min rules, α/2 per side for maxIncrease. */
+const ALPHA = 1 - CONFIDENCE;
+const SIMULTANEOUS = ['outside-band-share', 'max-weight-sd'] as const;
+
+/**
+ * The bounds the gate will ask of a run's per-draw data (proposal method, both sides, α and α/2),
+ * computed now so the run itself can be dropped: K runs × 2 at 2000 draws would not fit in memory.
+ */
+function memoBounds(run: StressRun): FigureBoundSource {
+  const source = figureBoundsOf(run);
+  const table = new Map<string, FigureBound | undefined>();
+  for (const metric of SIMULTANEOUS) for (const side of ['lower', 'upper'] as const) for (const alpha of [ALPHA, ALPHA / 2]) table.set(`${metric}|${side}|${alpha}`, source(metric, 0, side, alpha));
+  return (metric, k, side, alpha) => {
+    const key = `${metric}|${side}|${alpha}`;
+    if (k !== 0 || !table.has(key)) throw new Error(`calibration: bound ${key} for method ${k} was not kept`);
+    return table.get(key);
+  };
+}
+
+/** What one seed leaves for the gate: both reports, the paired errors and the bounds. */
+interface GateInput {
+  readonly candidate: Omit<Report, 'verdict'>;
+  readonly baseline: Omit<Report, 'verdict'>;
+  readonly paired: Map<GateMetric, number | undefined>;
+  readonly candidateBounds: FigureBoundSource;
+  readonly baselineBounds: FigureBoundSource;
+}
+
+/** The limit figures of the two simultaneous metrics from the pooled draws of long runs (proposal method). */
+function limitFigures(runs: StressRun[]): { outsideBandShare: number; maxWeightSd: number; classified: boolean; pooledDraws: number } {
+  const n = runs[0].plan.problem.n;
+  const total = runs.reduce((a, r) => a + r.plan.draws, 0);
+  const pooled = new Float64Array(total * n);
+  let at = 0;
+  for (const r of runs) {
+    pooled.set(r.acc.methods[0].weights.rows().subarray(0, r.plan.draws * n), at);
+    at += r.plan.draws * n;
+  }
+  const proposal = runs[0].plan.problem.proposalWeights;
+  const outsideBandShare = outsideBandShareOver(pooled, n, proposal, BAND_EDGE_TOLERANCE, 0, total, new Float64Array(total));
+  let maxWeightSd = 0;
+  for (let i = 0; i < n; i++) maxWeightSd = Math.max(maxWeightSd, stridedMoments(pooled, i, n, total).sd);
+  // Known when, at 99 %, the confidently-outside count equals the not-confidently-inside count.
+  const counts = outsideBandCounts(pooled, total, n, proposal, BAND_EDGE_TOLERANCE);
+  const low = outsideBandShareBound(counts, 'lower', 0.01);
+  const high = outsideBandShareBound(counts, 'upper', 0.01);
+  const classified = low !== undefined && high !== undefined && low.outside === high.outside && low.bound === outsideBandShare;
+  return { outsideBandShare, maxWeightSd, classified, pooledDraws: total };
+}
+
+/** One step below a truth: one asset for the outside-band share, 20 % of the figure otherwise. */
+function step(metric: GateMetric, truth: number, assets: number): number {
+  return metric === 'outside-band-share' ? 1 / assets : 0.2 * Math.abs(truth);
+}
+
 async function main(): Promise<void> {
   const { values } = parseArgs({
     args: process.argv.slice(2),
@@ -185,13 +251,17 @@ async function main(): Promise<void> {
   const base = valid(baseline);
   const seedsFor = (draws: number): number => (values.seeds ? Number(values.seeds) : draws >= 2000 ? 60 : 150);
 
-  // Truth for the gate: long runs (L seeds × 5000 draws), averaged.
+  // Truth for the gate: long runs (L seeds × 5000 draws), averaged; the simultaneous figures from the pooled draws.
   const truth = new Map<GateMetric, number>();
   const truthDiff = new Map<GateMetric, number>();
+  const longCandidate: StressRun[] = [];
+  const longBaseline: StressRun[] = [];
   for (let s = 0; s < longSeeds; s++) {
     const seed = `long-${s}`;
     const a = await stressRun(cand.proposal, cand.warnings, { draws: 5000, seed });
     const b = await stressRun(base.proposal, base.warnings, { draws: 5000, seed });
+    longCandidate.push(a.run);
+    longBaseline.push(b.run);
     for (const metric of GATE_METRICS) {
       const va = gateValue(a.report, metric).value;
       const vb = gateValue(b.report, metric).value;
@@ -199,44 +269,88 @@ async function main(): Promise<void> {
       truthDiff.set(metric, (truthDiff.get(metric) ?? 0) + (va - vb) / longSeeds);
     }
   }
+  const limitA = limitFigures(longCandidate);
+  const limitB = limitFigures(longBaseline);
+  longCandidate.length = 0;
+  longBaseline.length = 0;
+  const assets = cand.proposal.assets.length;
 
   console.log(`wobble Monte Carlo error calibration — case ${caseName}; truth from ${longSeeds} × 5000 draws`);
+  console.log(
+    `limit figures (${limitA.pooledDraws} pooled draws): outside-band share ${limitA.outsideBandShare.toFixed(4)} (baseline ${limitB.outsideBandShare.toFixed(4)}; ` +
+      `every asset classified at 99 %: ${limitA.classified && limitB.classified ? 'yes' : 'NO — the limit share is uncertain'}), ` +
+      `max weight sd ${limitA.maxWeightSd.toFixed(5)} (baseline ${limitB.maxWeightSd.toFixed(5)})`,
+  );
   console.log('ratio = sd of the figure across seeds ÷ mean reported stdErr (1.0 honest; goal 0.8–1.2)');
   for (const draws of drawCounts) {
     const K = seedsFor(draws);
     const samples: Samples = new Map();
     const paired: Samples = new Map();
     const gate: Samples = new Map();
-    const fails = new Map<string, number>();
-    const bias = new Map<string, number[]>();
+    const inputs: GateInput[] = [];
     const started = performance.now();
     for (let s = 0; s < K; s++) {
       const seed = `cal-${s}`;
       const a = await stressRun(cand.proposal, cand.warnings, { draws, seed });
       const b = await stressRun(base.proposal, base.warnings, { draws, seed });
       collect(samples, a);
+      const pairedErrors = new Map<GateMetric, number | undefined>();
       for (const metric of GATE_METRICS) {
         const est = gateValue(a.report, metric);
         add(gate, metric, 'proposal method', est.value, est.stdErr);
         const diff = est.value - gateValue(b.report, metric).value;
         const se = pairedStdErr(a.run, b.run, metric, a.run.plan.problem.methods[0]);
+        pairedErrors.set(metric, se);
         add(paired, `paired ${metric}`, 'proposal method', diff, se === undefined || !Number.isFinite(se) ? null : se);
       }
+      inputs.push({ candidate: a.report, baseline: b.report, paired: pairedErrors, candidateBounds: memoBounds(a.run), baselineBounds: memoBounds(b.run) });
     }
-    // The truth: the draw-weighted mean of the long runs and of these K runs (the long runs alone
-    // would carry an error of about √(draws / (L·5000)) stdErr into every comparison).
+    // The truth of smooth figures: the draw-weighted mean of the long runs and of these K runs
+    // (the long runs alone would carry an error of about √(draws / (L·5000)) stdErr into every
+    // comparison). The simultaneous figures: their limit values.
     const weightLong = longSeeds * 5000;
     const weightHere = K * draws;
+    const truthAt = new Map<GateMetric, { value: number; diff: number }>();
     for (const metric of GATE_METRICS) {
       const values = gate.get(metric)?.get('proposal method') ?? [];
       const diffs = paired.get(`paired ${metric}`)?.get('proposal method') ?? [];
-      const t = ((truth.get(metric) as number) * weightLong + mean(values.map((v) => v.value)) * weightHere) / (weightLong + weightHere);
-      const td = ((truthDiff.get(metric) as number) * weightLong + mean(diffs.map((v) => v.value)) * weightHere) / (weightLong + weightHere);
-      for (const est of values) {
-        if (est.stdErr !== null && est.value - Z95_ONE_SIDED * est.stdErr > t) fails.set(metric, (fails.get(metric) ?? 0) + 1);
-        if (est.stdErr !== null && est.stdErr > 0) bias.set(metric, [...(bias.get(metric) ?? []), (est.value - t) / est.stdErr]);
+      const pooledValue = ((truth.get(metric) as number) * weightLong + mean(values.map((v) => v.value)) * weightHere) / (weightLong + weightHere);
+      const pooledDiff = ((truthDiff.get(metric) as number) * weightLong + mean(diffs.map((v) => v.value)) * weightHere) / (weightLong + weightHere);
+      if (metric === 'outside-band-share') truthAt.set(metric, { value: limitA.outsideBandShare, diff: limitA.outsideBandShare - limitB.outsideBandShare });
+      else if (metric === 'max-weight-sd') truthAt.set(metric, { value: limitA.maxWeightSd, diff: limitA.maxWeightSd - limitB.maxWeightSd });
+      else truthAt.set(metric, { value: pooledValue, diff: pooledDiff });
+    }
+    // The gate itself on rules at (and one step below) the truth.
+    const rules: PolicyRule[] = [];
+    const ruleIds: { metric: GateMetric; kind: string }[] = [];
+    for (const metric of GATE_METRICS) {
+      const t = truthAt.get(metric) as { value: number; diff: number };
+      const below = step(metric, t.value, assets);
+      const entries: [string, Partial<PolicyRule>][] = [
+        ['max at truth', { max: t.value }],
+        ['min at truth', { min: t.value }],
+        ['max one step below', { max: t.value - below }],
+        ['maxIncrease at truth', { maxIncrease: t.diff }],
+        ['maxIncrease one step below', { maxIncrease: t.diff - below }],
+      ];
+      for (const [kind, bound] of entries) {
+        rules.push({ metric, id: `${metric}|${kind}`, ...bound } as PolicyRule);
+        ruleIds.push({ metric, kind });
       }
-      for (const d of diffs) if (d.stdErr !== null && d.value - Z95_ONE_SIDED * d.stdErr > td) fails.set(`paired ${metric}`, (fails.get(`paired ${metric}`) ?? 0) + 1);
+    }
+    const policy = PolicySchema.parse({ confidence: CONFIDENCE, rules });
+    const fails = new Map<string, number>();
+    for (const input of inputs) {
+      const verdict = judge(input.candidate, policy, input.baseline, (metric) => input.paired.get(metric as GateMetric), {
+        candidate: input.candidateBounds,
+        baseline: input.baselineBounds,
+      });
+      for (const r of verdict.rules) if (!r.pass) fails.set(r.id, (fails.get(r.id) ?? 0) + 1);
+    }
+    const bias = new Map<GateMetric, number[]>();
+    for (const metric of GATE_METRICS) {
+      const t = (truthAt.get(metric) as { value: number }).value;
+      for (const est of gate.get(metric)?.get('proposal method') ?? []) if (est.stdErr !== null && est.stdErr > 0) bias.set(metric, [...(bias.get(metric) ?? []), (est.value - t) / est.stdErr]);
     }
     const seconds = (performance.now() - started) / 1000;
     const noise = 1 / Math.sqrt(2 * (K - 1));
@@ -253,13 +367,20 @@ async function main(): Promise<void> {
             `${within}/${sorted.length}`.padStart(8);
       console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}`);
     }
-    console.log(`false-fail rate of a max rule at the true value, 95 % one-sided (goal ≤ 6 %; sd of a rate near 5 % from K seeds ≈ ${(100 * Math.sqrt(0.05 * 0.95 / K)).toFixed(1)} %):`);
+    const rate = (metric: GateMetric, kind: string): string => `${((100 * (fails.get(`${metric}|${kind}`) ?? 0)) / K).toFixed(1).padStart(5)} %`;
+    console.log(
+      `gate at 95 % (judge, as check runs it) on rules at the truth — false fails, goal ≤ 6 %; sd of a rate near 5 % from K seeds ≈ ${(100 * Math.sqrt((0.05 * 0.95) / K)).toFixed(1)} % — ` +
+        'and power: fail rate of a rule one step below the truth (1 asset for the share, 20 % otherwise):',
+    );
+    console.log(`  ${'metric'.padEnd(28)} ${'truth'.padStart(9)}  max@truth  min@truth  max-step(power)   ${'Δtruth'.padStart(9)}  maxIncrease@Δ  maxIncrease-step(power)   mean (value−truth)/se`);
     for (const metric of GATE_METRICS) {
-      const single = (100 * (fails.get(metric) ?? 0)) / K;
-      const pairedRate = (100 * (fails.get(`paired ${metric}`) ?? 0)) / K;
+      const t = truthAt.get(metric) as { value: number; diff: number };
       const z = bias.get(metric) ?? [];
-      const meanZ = z.length > 0 ? mean(z) : Number.NaN;
-      console.log(`  ${metric.padEnd(30)} ${single.toFixed(1).padStart(5)} %   (mean (value − truth)/stdErr ${meanZ.toFixed(2)})   maxIncrease vs baseline (paired): ${pairedRate.toFixed(1).padStart(5)} %`);
+      const stepBelow = t.value - step(metric, t.value, assets);
+      console.log(
+        `  ${metric.padEnd(28)} ${t.value.toFixed(5).padStart(9)}  ${rate(metric, 'max at truth').padStart(9)}  ${rate(metric, 'min at truth').padStart(9)}  ${(stepBelow < 0 ? 'n/a' : rate(metric, 'max one step below')).padStart(15)}   ` +
+          `${t.diff.toFixed(5).padStart(9)}  ${rate(metric, 'maxIncrease at truth').padStart(13)}  ${rate(metric, 'maxIncrease one step below').padStart(23)}   ${(z.length > 0 ? mean(z) : Number.NaN).toFixed(2).padStart(8)}`,
+      );
     }
   }
 }

@@ -83,12 +83,13 @@ export function renderVerdictJunit(r: Report): string {
         `metric: ${rule.metric}`,
         `value: ${figure(rule.value)}`,
         `stdErr: ${figure(rule.stdErr)}`,
+        `bound: ${figure(rule.bound)}`,
         `threshold (${rule.kind}): ${figure(rule.threshold)}`,
         ...(rule.baselineValue === undefined ? [] : [`baseline: ${figure(rule.baselineValue)}`]),
         `confidence: ${v.confidence}`,
         rule.message,
       ].join('\n');
-      const message = `${rule.message} [value ${formatRuleValue(rule.metric, rule.value, rule.stdErr)}, ${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold)}]`;
+      const message = `${rule.message} [value ${formatRuleValue(rule.metric, rule.value, rule.stdErr)}, bound ${formatRuleFigure(rule.metric, rule.bound)}, ${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold)}]`;
       lines.push(`${open}>`);
       lines.push(`    <failure${attributes({ message, type: `policy.${rule.kind}` })}>${escapeXml(detail, false)}</failure>`);
       lines.push('  </testcase>');

@@ -260,21 +260,23 @@ function verdictSection(r: Report): string[] {
   return [
     '## Policy rules',
     '',
-    `**${v.pass ? 'PASS' : 'FAIL'}**: ${failed} of ${v.rules.length} rule(s) failed. A rule fails only when its value is beyond the threshold ` +
-      `by more than the Monte Carlo error allows at ${formatPercent(v.confidence, 0)} confidence.`,
+    `**${v.pass ? 'PASS' : 'FAIL'}**: ${failed} of ${v.rules.length} rule(s) failed. A rule fails only when its one-sided confidence bound at ` +
+      `${formatPercent(v.confidence, 0)} (column Bound) is beyond the threshold: the value ∓ its Monte Carlo error, or, for the outside-band share ` +
+      'and the max weight sd, a bound over all assets at once.',
     '',
     ...table(
-      ['Rule', 'Method', 'Metric', 'Value ± se', 'Threshold', 'Result', 'Explanation'],
+      ['Rule', 'Method', 'Metric', 'Value ± se', 'Bound', 'Threshold', 'Result', 'Explanation'],
       v.rules.map((rule) => [
         escapeMarkdown(rule.id),
         escapeMarkdown(rule.method),
         escapeMarkdown(rule.metric),
         formatRuleValue(rule.metric, rule.value, rule.stdErr) + (rule.baselineValue === undefined ? '' : ` (baseline ${formatRuleFigure(rule.metric, rule.baselineValue)})`),
+        formatRuleFigure(rule.metric, rule.bound),
         `${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold)}`,
         rule.pass ? 'pass' : '**FAIL**',
         escapeMarkdown(rule.message),
       ]),
-      ['l', 'l', 'l', 'r', 'r', 'l', 'l'],
+      ['l', 'l', 'l', 'r', 'r', 'r', 'l', 'l'],
     ),
   ];
 }

@@ -303,7 +303,7 @@ function verdictLines(r: Report): string[] {
   // Failing rules get their numbers and sentence; passing ones are listed by id to keep one screen.
   const failLines = failing.map((rule) =>
     wrap(
-      `[FAIL] ${rule.id} (${rule.method}): ${formatRuleValue(rule.metric, rule.value, rule.stdErr, 1)} vs ${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold, 1)} — ${rule.message}`,
+      `[FAIL] ${rule.id} (${rule.method}): ${formatRuleValue(rule.metric, rule.value, rule.stdErr, 1)}, bound ${formatRuleFigure(rule.metric, rule.bound, 1)} vs ${rule.kind} ${formatRuleFigure(rule.metric, rule.threshold, 1)} — ${rule.message}`,
       SCREEN_WIDTH,
       '  ',
       '         ',

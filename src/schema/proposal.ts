@@ -189,14 +189,14 @@ export const PolicyRuleSchema = z.strictObject({
     .enum(METHOD_NAMES)
     .optional()
     .describe("Which method's figures (default: the proposal's method)."),
-  max: z.number().optional().describe('Fails when the value is above this by more than Monte Carlo error allows.'),
-  min: z.number().optional().describe('Fails when the value is below this by more than Monte Carlo error allows.'),
-  maxIncrease: z.number().optional().describe('Largest allowed increase over the baseline (same metric, same seed).'),
+  max: z.number().optional().describe('Fails when the lower confidence bound of the figure (verdict rule `bound`) is above this.'),
+  min: z.number().optional().describe('Fails when the upper confidence bound of the figure (verdict rule `bound`) is below this.'),
+  maxIncrease: z.number().optional().describe('Largest allowed increase over the baseline (same metric, same seed): fails when the lower confidence bound of the increase (verdict rule `bound`) is above this.'),
 });
 
 export const PolicySchema = z
   .strictObject({
-    confidence: z.number().gt(0.5).lt(1).default(0.95).describe('A rule fails only when beyond its threshold by more than Monte Carlo error allows at this confidence.'),
+    confidence: z.number().gt(0.5).lt(1).default(0.95).describe('A rule fails only when its one-sided confidence bound at this confidence (verdict rule `bound`) is beyond its threshold.'),
     rules: z.array(PolicyRuleSchema).min(1).describe('Every rule is judged and reported.'),
   })
   .describe('Gate rules for `check`.');

@@ -41,6 +41,14 @@ import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
  *   (B < 20): the bound 0.5, the largest sd of a [0, 1]-valued quantity (Popoviciu's inequality).
  * - Selection rate: the binomial √(p(1−p)/(n−1)).
  * - Fewer than 2 successful draws: the error cannot be estimated; the report gives null and a warning.
+ *
+ * The gate (`check`, src/stress/verdict.ts) judges each rule by a one-sided confidence bound at the
+ * policy's confidence, reported as the rule's `bound`: value ∓ z·SE for the figures above, but for
+ * the outside-band share (whole-asset steps, for which no SE makes value ∓ z·SE honest) a count of
+ * assets confidently outside / not confidently inside their band by binomial quantile tests on the
+ * draws, Holm-adjusted over the assets (stability.ts), and for the max weight sd (the largest of
+ * nearly tied sds is biased upward) max_i(s_i ∓ z·se_i) with Bonferroni for the lower bound
+ * (max-sd-bound.ts).
  */
 export const MONTE_CARLO_ERROR_DESCRIPTION =
   'Monte Carlo standard errors; the draws are independent, and every error is a function of the per-draw results only ' +
@@ -53,7 +61,15 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'Outside-band share: a bootstrap of the draws (200 replicates, seeded, draws resampled by index). ' +
   'Mean-driven share: a delete-one-group jackknife over min(30, floor(B/10)) contiguous groups of draws ' +
   '(the bound 0.5 below 20 draws). Selection rate: sqrt(p(1-p)/(n-1)). ' +
-  'Errors that cannot be estimated (fewer than 2 successful draws) are reported as null, with a warning.';
+  'Errors that cannot be estimated (fewer than 2 successful draws) are reported as null, with a warning. ' +
+  'The gate (check) judges each rule by a one-sided confidence bound at the policy confidence (verdict rule `bound`): ' +
+  'value -/+ z*SE, z = the normal quantile at the confidence, except for two figures that a standard error cannot gate honestly. ' +
+  'Outside-band share (it moves in whole assets): per asset, exact binomial tests on the draws of whether the proposed weight lies ' +
+  'below the 5th or above the 95th percentile of the weight distribution (the count of draws at or below it is Binomial(n, F(x))), ' +
+  'Holm-adjusted over the assets; lower bound = assets confidently outside / assets, upper bound = assets not confidently inside / assets. ' +
+  'Max weight sd (the largest of several nearly tied sds is biased upward): lower bound max_i(sd_i - z(alpha/m)*se_i) over the m assets ' +
+  'with a positive sd (Bonferroni), upper bound max_i(sd_i + z*se_i). For maxIncrease of these two: lower bound of the candidate minus ' +
+  'upper bound of the baseline, each at alpha/2.';
 
 /** Storage groups of the channel accumulator: at most this many (jackknife groups). */
 export const MAX_BATCHES = 30;

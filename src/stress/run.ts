@@ -15,6 +15,7 @@ import { buildReport } from './report.js';
 import { methodKey } from './method-key.js';
 import { pairedStdErr, type StressRun } from './paired.js';
 import { judge } from './verdict.js';
+import { figureBoundsOf } from './gate-bounds.js';
 
 /**
  * The three jobs of the service, on a validated proposal. Pure apart from WebCrypto for the digest;
@@ -150,7 +151,7 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
   checkLimits('check', proposal, draws, { maxWork: options.maxWork, baseline: baseline?.kind === 'proposal' ? baseline.proposal : undefined });
   const candidate = await stressRun(proposal, warnings, options);
   if (!baseline || baseline.kind === 'report') {
-    return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report) });
+    return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report, undefined, { candidate: figureBoundsOf(candidate.run) }) });
   }
   const base = await stressRun(baseline.proposal, baseline.warnings, {
     draws: candidate.run.plan.draws,
@@ -160,5 +161,5 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
     drawRunner: options.drawRunner,
   });
   const paired = (metric: PolicyRule['metric'], spec: MethodSpec) => pairedStdErr(candidate.run, base.run, metric, spec);
-  return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired) });
+  return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, base.report, paired, { candidate: figureBoundsOf(candidate.run), baseline: figureBoundsOf(base.run) }) });
 }

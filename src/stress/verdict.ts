@@ -2,6 +2,7 @@ import type { MethodName, MethodSpec, Policy, PolicyRule } from '../schema/propo
 import { counterpartIndex } from './paired.js';
 import type { Report, Verdict } from '../schema/report.js';
 import { normalQuantile } from '../statistics/normal-quantile.js';
+import { isSimultaneousMetric, type FigureBoundSource } from './gate-bounds.js';
 
 /** A report figure with its Monte Carlo standard error. */
 export interface MetricEstimate {
@@ -82,41 +83,111 @@ export class PolicyError extends Error {
 }
 
 const fmt = (x: number | null): string => (x === null ? 'n/a' : Math.abs(x) >= 1e-3 || x === 0 ? x.toFixed(4) : x.toExponential(3));
-/** Error allowance z·se; an error that cannot be estimated allows nothing (the rule is judged on its value alone). */
-const allowance = (z: number, se: number | null): number => (se === null ? 0 : z * se);
-const noErrorNote = (se: number | null): string => (se === null ? ' (Monte Carlo error not estimable: judged on the value alone)' : '');
+const percent = (confidence: number): string => `${Number((confidence * 100).toPrecision(6))} %`;
+const NOT_ESTIMABLE = 'Monte Carlo error not estimable: judged on the value alone';
+const NO_RUN_DATA = 'its per-draw data were not at hand (a saved report), so it is bounded by value ∓ z·se';
+const noted = (note: string): string => (note === '' ? '' : ` (${note})`);
+
+/** The one-sided bound of a figure that a max rule (side 'lower') or min rule (side 'upper') is judged on. */
+interface JudgedBound {
+  readonly bound: number;
+  /** How the bound was formed, in words, for the rule's sentence. */
+  readonly words: string;
+  /** A note for the sentence (not estimable, or no per-draw data), else ''. */
+  readonly note: string;
+}
 
 /**
- * Judges each rule. A rule fails only when its value is beyond the threshold by more than the
- * Monte Carlo error allows at the policy's confidence: one-sided, value − z·se > max or
- * value + z·se < min, z = Φ⁻¹(confidence). For maxIncrease the error of the difference is the
- * paired batch-by-batch error when both runs share their random numbers (`pairedStdErr`), else
- * √(se² + se_baseline²) — conservative, since common random numbers make the runs positively
- * correlated and the true error of the difference smaller.
+ * The bound of one figure at level α on one side. Stepwise and maximum figures (outside-band
+ * share, max weight sd) use their simultaneous bound over the assets from the run's per-draw data
+ * (gate-bounds.ts) when a source is given; every other figure — and those two when only a report
+ * is at hand — uses value ∓ z_α·se. Not estimable: the value itself, with a note.
+ */
+function boundOf(metric: PolicyRule['metric'], est: MetricEstimate, side: 'lower' | 'upper', alpha: number, confidence: number, source: FigureBoundSource | undefined): JudgedBound {
+  const sign = side === 'lower' ? -1 : 1;
+  const atLeast = side === 'lower' ? 'at least' : 'at most';
+  if (isSimultaneousMetric(metric) && source !== undefined && est.index !== undefined) {
+    const b = source(metric, est.index, side, alpha);
+    if (b === undefined) return { bound: est.value, words: `it is ${fmt(est.value)}`, note: NOT_ESTIMABLE };
+    if (metric === 'outside-band-share' && b.outside !== undefined && b.assets !== undefined) {
+      return { bound: b.bound, words: `${atLeast} ${b.outside} of ${b.assets} assets are outside their band with ${percent(confidence)} confidence (bound ${fmt(b.bound)})`, note: '' };
+    }
+    return { bound: b.bound, words: `with ${percent(confidence)} confidence for all assets at once, the largest weight sd is ${atLeast} ${fmt(b.bound)}`, note: '' };
+  }
+  if (est.stdErr === null) return { bound: est.value, words: `it is ${fmt(est.value)}`, note: NOT_ESTIMABLE };
+  // confidence = 1 − alpha, passed as given so z is the policy's own Φ⁻¹(confidence).
+  const z = normalQuantile(confidence);
+  const bound = est.value + sign * z * est.stdErr;
+  const note = isSimultaneousMetric(metric) ? NO_RUN_DATA : '';
+  return { bound, words: `with ${percent(confidence)} confidence it is ${atLeast} ${fmt(bound)} (value ${side === 'lower' ? '−' : '+'} ${fmt(z)} × se)`, note };
+}
+
+/** Sources of simultaneous bounds (gate-bounds.ts) for the candidate's run and the baseline's, when their per-draw data are at hand. */
+export interface GateBoundSources {
+  readonly candidate?: FigureBoundSource;
+  readonly baseline?: FigureBoundSource;
+}
+
+/**
+ * Judges each rule by a one-sided confidence bound of its figure at the policy's confidence c
+ * (α = 1 − c), reported as the rule's `bound`: a max rule fails when the lower bound exceeds the
+ * maximum, a min rule when the upper bound is below the minimum.
+ *
+ * - Smooth figures (turnover, band width, mean-driven share): value ∓ z·se, z = Φ⁻¹(c).
+ * - Outside-band share and max weight sd: a simultaneous bound over the assets from the per-draw
+ *   data (stability.ts, max-sd-bound.ts). The share moves in whole-asset steps and the sample
+ *   maximum of several sds is biased upward, so value ∓ z·se would fail a rule that holds far more
+ *   often than 1 − c (27.5 % and 10 % at 95 %, measured; DEVELOPERS.md).
+ * - maxIncrease, smooth figures: the increase ∓ z·se of the difference, with the paired error when
+ *   both runs share their random numbers (`pairedStdErr`), else √(se² + se_baseline²) —
+ *   conservative, since common random numbers make the runs positively correlated.
+ * - maxIncrease, outside-band share and max weight sd: lower bound of the candidate's figure minus
+ *   upper bound of the baseline's, each at α/2 (Bonferroni: both hold together with chance ≥ 1 − α,
+ *   and then the true increase is at least their difference).
  */
 export function judge(
   report: ReportBody,
   policy: Policy,
   baseline?: ReportBody,
   pairedStdErr?: (metric: PolicyRule['metric'], spec: MethodSpec) => number | undefined,
+  bounds: GateBoundSources = {},
 ): Verdict {
-  const z = normalQuantile(policy.confidence);
+  const confidence = policy.confidence;
+  const alpha = 1 - confidence;
+  const z = normalQuantile(confidence);
   const rules = policy.rules.map((rule, i) => {
     const method = rule.method ?? report.proposal.method.name;
     const id = rule.id ?? `${rule.metric}${rule.method ? `@${rule.method}` : ''}`;
     const path = ['policy', 'rules', i];
-    const bounds = [rule.max, rule.min, rule.maxIncrease].filter((x) => x !== undefined).length;
-    if (bounds !== 1) throw new PolicyError(path, 'each rule needs exactly one of max, min or maxIncrease');
+    const count = [rule.max, rule.min, rule.maxIncrease].filter((x) => x !== undefined).length;
+    if (count !== 1) throw new PolicyError(path, 'each rule needs exactly one of max, min or maxIncrease');
     const est = metricOf(report, rule.metric, method);
     if (!est) throw new PolicyError([...path, 'method'], `method "${method}" was not re-optimised in this report; add it to compare`);
     const base = { id, metric: rule.metric, method, value: est.value, stdErr: est.stdErr };
+    const figure = `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}`;
     if (rule.max !== undefined) {
-      const pass = !(est.value - allowance(z, est.stdErr) > rule.max);
-      return { ...base, threshold: rule.max, kind: 'max' as const, pass, message: `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}; the maximum is ${fmt(rule.max)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value > rule.max ? ' (above the maximum, but within Monte Carlo error)' : ''}${noErrorNote(est.stdErr)}.` };
+      const b = boundOf(rule.metric, est, 'lower', alpha, confidence, bounds.candidate);
+      const pass = !(b.bound > rule.max);
+      return {
+        ...base,
+        bound: b.bound,
+        threshold: rule.max,
+        kind: 'max' as const,
+        pass,
+        message: `${figure}; ${b.words}; the maximum is ${fmt(rule.max)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value > rule.max ? ' (above the maximum, but within Monte Carlo error)' : ''}${noted(b.note)}.`,
+      };
     }
     if (rule.min !== undefined) {
-      const pass = !(est.value + allowance(z, est.stdErr) < rule.min);
-      return { ...base, threshold: rule.min, kind: 'min' as const, pass, message: `${rule.metric} for ${method} is ${fmt(est.value)} ± ${fmt(est.stdErr)}; the minimum is ${fmt(rule.min)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value < rule.min ? ' (below the minimum, but within Monte Carlo error)' : ''}${noErrorNote(est.stdErr)}.` };
+      const b = boundOf(rule.metric, est, 'upper', alpha, confidence, bounds.candidate);
+      const pass = !(b.bound < rule.min);
+      return {
+        ...base,
+        bound: b.bound,
+        threshold: rule.min,
+        kind: 'min' as const,
+        pass,
+        message: `${figure}; ${b.words}; the minimum is ${fmt(rule.min)}: ${pass ? 'pass' : 'FAIL'}${pass && est.value < rule.min ? ' (below the minimum, but within Monte Carlo error)' : ''}${noted(b.note)}.`,
+      };
     }
     const limit = rule.maxIncrease as number;
     if (!baseline) throw new PolicyError([...path, 'maxIncrease'], 'maxIncrease compares with a baseline: pass one (an earlier report or proposal)');
@@ -128,16 +199,31 @@ export function judge(
     const paired = pairedRaw === undefined ? undefined : Number.isFinite(pairedRaw) ? pairedRaw : null;
     const unpaired = est.stdErr === null || before.stdErr === null ? null : Math.hypot(est.stdErr, before.stdErr);
     const se = paired === undefined ? unpaired : paired;
-    const pass = !(increase - allowance(z, se) > limit);
+    const common = { ...base, stdErr: se, value: increase, threshold: limit, kind: 'maxIncrease' as const, baselineValue: before.value };
+    const change = `${rule.metric} for ${method} went from ${fmt(before.value)} to ${fmt(est.value)}`;
+    if (isSimultaneousMetric(rule.metric)) {
+      // Each side at α/2 (Bonferroni), so both bounds hold together with chance ≥ 1 − α.
+      const after = boundOf(rule.metric, est, 'lower', alpha / 2, 1 - alpha / 2, bounds.candidate);
+      const prior = boundOf(rule.metric, before, 'upper', alpha / 2, 1 - alpha / 2, bounds.baseline);
+      const bound = after.bound - prior.bound;
+      const pass = !(bound > limit);
+      const notes = [after.note && `now: ${after.note}`, prior.note && `before: ${prior.note}`].filter((x) => x !== '').join('; ');
+      return {
+        ...common,
+        bound,
+        pass,
+        message:
+          `${change} (change ${fmt(increase)}); with ${percent(confidence)} confidence it rose by at least ${fmt(bound)} (now: ${after.words}; before: ${prior.words}); ` +
+          `the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}${noted(notes)}.`,
+      };
+    }
+    const bound = se === null ? increase : increase - z * se;
+    const pass = !(bound > limit);
     return {
-      ...base,
-      stdErr: se,
-      value: increase,
-      threshold: limit,
-      kind: 'maxIncrease' as const,
-      baselineValue: before.value,
+      ...common,
+      bound,
       pass,
-      message: `${rule.metric} for ${method} went from ${fmt(before.value)} to ${fmt(est.value)} (change ${fmt(increase)} ± ${fmt(se)}, ${paired === undefined ? 'unpaired error' : 'paired over common random numbers'}); the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}${noErrorNote(se)}.`,
+      message: `${change} (change ${fmt(increase)} ± ${fmt(se)}, ${paired === undefined ? 'unpaired error' : 'paired over common random numbers'}); with ${percent(confidence)} confidence it rose by at least ${fmt(bound)}; the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}${noted(se === null ? NOT_ESTIMABLE : '')}.`,
     };
   });
   return { pass: rules.every((r) => r.pass), confidence: policy.confidence, rules };

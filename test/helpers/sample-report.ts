@@ -256,6 +256,7 @@ function sampleVerdict(methods: readonly MethodReport[], outsideBandShare: numbe
         method: 'mean-variance',
         value: turnoverValue,
         stdErr: turnoverError,
+        bound: turnoverValue - Z05 * turnoverError,
         threshold: turnoverThreshold,
         kind: 'max',
         pass: turnoverPass,
@@ -267,6 +268,8 @@ function sampleVerdict(methods: readonly MethodReport[], outsideBandShare: numbe
         method: 'mean-variance',
         value: outsideBandShare,
         stdErr: 0,
+        // An invented report: the bound is the value (as for a figure without error).
+        bound: outsideBandShare,
         threshold: bandThreshold,
         kind: 'max',
         pass: bandPass,

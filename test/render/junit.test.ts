@@ -141,7 +141,7 @@ describe('renderVerdictJunit', () => {
     expect(suite.attrs.errors).toBe('0');
   });
 
-  it('gives failing rules a <failure> with value, stdErr and threshold, and passing rules none', () => {
+  it('gives failing rules a <failure> with value, stdErr, bound and threshold, and passing rules none', () => {
     const [failing, passing] = suite.children.filter((c) => c.name === 'testcase');
     const rule = report.verdict!.rules[0];
     expect(passing.children).toEqual([]);
@@ -150,7 +150,10 @@ describe('renderVerdictJunit', () => {
     expect(failure.name).toBe('failure');
     expect(failure.attrs.type).toBe('policy.max');
     expect(failure.attrs.message).toContain(rule.message);
-    expect(failure.attrs.message).toContain(`value ${(rule.value * 100).toFixed(2)}% ± ${(rule.stdErr! * 100).toFixed(2)}%, max ${(rule.threshold * 100).toFixed(2)}%`);
+    expect(failure.attrs.message).toContain(
+      `value ${(rule.value * 100).toFixed(2)}% ± ${(rule.stdErr! * 100).toFixed(2)}%, bound ${(rule.bound * 100).toFixed(2)}%, max ${(rule.threshold * 100).toFixed(2)}%`,
+    );
+    expect(failure.text).toContain(`bound: ${(rule.bound * 100).toFixed(2)}% (${rule.bound})`);
     expect(failure.text).toContain(`value: ${(rule.value * 100).toFixed(2)}% (${rule.value})`);
     expect(failure.text).toContain(`stdErr: ${(rule.stdErr! * 100).toFixed(2)}% (${rule.stdErr})`);
     expect(failure.text).toContain(`threshold (max): 10.00% (0.1)`);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { methodLabel } from '../../src/render/format.js';
+import { formatRuleFigure, methodLabel } from '../../src/render/format.js';
 import { escapeMarkdown, renderReportMarkdown } from '../../src/render/markdown.js';
 import { SAMPLE_ASSETS, sampleReport } from '../helpers/sample-report.js';
 
@@ -118,10 +118,12 @@ describe('renderReportMarkdown', () => {
     for (const f of report.findings) expect(md).toContain(escapeMarkdown(f.message));
     for (const w of report.warnings) expect(md).toContain(w.message);
     const verdict = tables(md).find((t) => t.header[0] === 'Rule')!;
-    expect(verdict.rows.map((r) => [r[0], r[5]])).toEqual([
+    expect(verdict.rows.map((r) => [r[0], r[verdict.header.indexOf('Result')]])).toEqual([
       ['median-turnover', '**FAIL**'],
       ['outside-band', 'pass'],
     ]);
+    // The bound each rule was judged on, in its own column.
+    expect(verdict.rows[0][verdict.header.indexOf('Bound')]).toBe(formatRuleFigure('turnover-from-proposal.p50', report.verdict!.rules[0].bound));
     const cautions = md.slice(md.indexOf('## Cautions'));
     for (const c of report.cautions) expect(cautions).toContain(`- ${c}`);
   });

@@ -121,7 +121,7 @@ describe('renderReportTable', () => {
     for (const f of report.findings) expect(flat).toContain(f.message);
     for (const w of report.warnings) expect(flat).toContain(w.message);
     expect(text).toMatch(/^Verdict: FAIL — 1 of 2 rule\(s\) failed at 95% confidence$/m);
-    expect(text).toMatch(/^ {2}\[FAIL\] median-turnover \(mean-variance\): 27\.0% ± 0\.3% vs max 10\.0%/m);
+    expect(text).toMatch(/^ {2}\[FAIL\] median-turnover \(mean-variance\): 27\.0% ± 0\.3%, bound 26\.5% vs max 10\.0%/m);
     expect(text).toMatch(/^ {2}\[pass\] outside-band$/m);
     expect(flat).toContain('Cautions: estimates from resampled inputs, not investment advice; past returns do not predict future returns;');
     expect(flat).toContain("defer to your firm's policies and licensed professionals");

@@ -1,8 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { PolicySchema } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
-import { stressProposal } from '../../src/stress/run.js';
+import { checkProposal, stressProposal, stressRun } from '../../src/stress/run.js';
 import { judge, PolicyError } from '../../src/stress/verdict.js';
+import { figureBoundsOf } from '../../src/stress/gate-bounds.js';
+import { normalQuantile } from '../../src/statistics/normal-quantile.js';
 import { historyProposal } from '../helpers/proposals.js';
 
 async function report() {
@@ -53,5 +55,115 @@ describe('judge', () => {
     const same = judge(r, policy, r);
     expect(same.rules[0].value).toBe(0);
     expect(same.pass).toBe(true);
+  });
+
+  it('reports the bound it judged on: value − z·se for a max rule, value + z·se for a min rule', async () => {
+    const r = await report();
+    const t = r.methods[0].turnoverFromProposal;
+    const z = normalQuantile(0.9);
+    const v = judge(r, PolicySchema.parse({ confidence: 0.9, rules: [{ metric: 'turnover-from-proposal.mean', max: 0.5 }, { metric: 'turnover-from-proposal.mean', min: 0.5 }] }));
+    expect(v.rules[0].bound).toBeCloseTo(t.mean - z * (t.stdErr as number), 14);
+    expect(v.rules[1].bound).toBeCloseTo(t.mean + z * (t.stdErr as number), 14);
+    expect(v.rules[0].pass).toBe(!(v.rules[0].bound > 0.5));
+    expect(v.rules[1].pass).toBe(!(v.rules[1].bound < 0.5));
+    expect(v.rules[0].message).toMatch(/with 90 % confidence it is at least/);
+  });
+});
+
+describe('judge: the outside-band share and the max weight sd by simultaneous bounds over the assets', () => {
+  const proposal = () => {
+    const v = validateProposal(historyProposal(60, { weights: [0.4, 0.3, 0.2, 0.1], resampling: { draws: 200, seed: 'gate' } }));
+    if (!v.ok) throw new Error('invalid');
+    return v;
+  };
+
+  it('counts the assets confidently outside (max rule) or not confidently inside (min rule), in words', async () => {
+    const v = proposal();
+    const { report: r, run } = await stressRun(v.proposal, v.warnings);
+    const source = figureBoundsOf(run);
+    const lower = source('outside-band-share', 0, 'lower', 0.05);
+    const upper = source('outside-band-share', 0, 'upper', 0.05);
+    if (!lower || !upper) throw new Error('bounds expected');
+    expect(lower.bound).toBeLessThanOrEqual(r.methods[0].outsideBandShare.value);
+    expect(upper.bound).toBeGreaterThanOrEqual(r.methods[0].outsideBandShare.value);
+    const policy = PolicySchema.parse({
+      rules: [
+        { metric: 'outside-band-share', max: 0 },
+        { metric: 'outside-band-share', min: 1 },
+      ],
+    });
+    const verdict = judge(r, policy, undefined, undefined, { candidate: source });
+    expect(verdict.rules[0].bound).toBe(lower.bound);
+    expect(verdict.rules[0].pass).toBe(lower.outside === 0);
+    expect(verdict.rules[0].message).toContain(`at least ${lower.outside} of 4 assets are outside their band with 95 % confidence`);
+    expect(verdict.rules[1].bound).toBe(upper.bound);
+    expect(verdict.rules[1].pass).toBe(upper.outside === 4);
+    expect(verdict.rules[1].message).toContain(`at most ${upper.outside} of 4 assets are outside their band with 95 % confidence`);
+    // checkProposal judges the same way.
+    const checked = await checkProposal(v.proposal, v.warnings, policy, undefined);
+    expect(checked.verdict?.rules.map((x) => [x.bound, x.pass])).toEqual(verdict.rules.map((x) => [x.bound, x.pass]));
+  });
+
+  it('bounds the max weight sd by max_i(sd_i − z(α/m)·se_i), Bonferroni over the assets with a positive sd', async () => {
+    const v = proposal();
+    const { report: r, run } = await stressRun(v.proposal, v.warnings);
+    const per = run.acc.methods[0].weights.summarize(run.plan.problem.proposalWeights).perAsset;
+    const moving = per.filter((w) => w.sd > 0);
+    const z = normalQuantile(1 - 0.05 / moving.length);
+    const expected = Math.max(0, ...moving.map((w) => w.sd - z * w.sdStdErr));
+    const verdict = judge(r, PolicySchema.parse({ rules: [{ metric: 'max-weight-sd', max: r.methods[0].maxWeightSd.value }] }), undefined, undefined, { candidate: figureBoundsOf(run) });
+    expect(verdict.rules[0].bound).toBeCloseTo(expected, 14);
+    // A rule at the reported value passes: the bound sits below the (upward-biased) sample maximum.
+    expect(verdict.rules[0].pass).toBe(true);
+    expect(verdict.rules[0].message).toMatch(/for all assets at once, the largest weight sd is at least/);
+  });
+
+  it('judges on the value alone, with a note, when the bound is not estimable; says so when only a saved report is at hand', async () => {
+    const r = await report();
+    const policy = PolicySchema.parse({ rules: [{ metric: 'outside-band-share', max: 0.1 }] });
+    const none = judge(r, policy, undefined, undefined, { candidate: () => undefined });
+    expect(none.rules[0].bound).toBe(r.methods[0].outsideBandShare.value);
+    expect(none.rules[0].pass).toBe(!(r.methods[0].outsideBandShare.value > 0.1));
+    expect(none.rules[0].message).toMatch(/not estimable: judged on the value alone/);
+    const saved = judge(r, policy);
+    expect(saved.rules[0].message).toMatch(/saved report/);
+  });
+
+  it('gives the same verdict, bounds included, from one range of draws as from several merged ranges', async () => {
+    const v = proposal();
+    const policy = PolicySchema.parse({
+      rules: [
+        { metric: 'outside-band-share', max: 0.25 },
+        { metric: 'max-weight-sd', max: 0.1 },
+        { metric: 'max-weight-sd', min: 0.5 },
+      ],
+    });
+    const one = await checkProposal(v.proposal, v.warnings, policy, undefined);
+    const split = await checkProposal(v.proposal, v.warnings, policy, undefined, { rangeSize: 50 });
+    expect(JSON.stringify(split.verdict)).toBe(JSON.stringify(one.verdict));
+  });
+
+  it('maxIncrease: lower bound of the candidate minus upper bound of the baseline, each at α/2', async () => {
+    const v = proposal();
+    const policy = PolicySchema.parse({
+      rules: [
+        { metric: 'outside-band-share', maxIncrease: 0 },
+        { metric: 'max-weight-sd', maxIncrease: 0 },
+      ],
+    });
+    // Against itself: the true increase is 0, so the bound must not exceed it.
+    const checked = await checkProposal(v.proposal, v.warnings, policy, { kind: 'proposal', proposal: v.proposal, warnings: v.warnings });
+    const { run } = await stressRun(v.proposal, v.warnings);
+    const source = figureBoundsOf(run);
+    for (const [k, metric] of (['outside-band-share', 'max-weight-sd'] as const).entries()) {
+      const rule = checked.verdict?.rules[k];
+      const expected = (source(metric, 0, 'lower', 0.025)?.bound as number) - (source(metric, 0, 'upper', 0.025)?.bound as number);
+      expect(rule?.value).toBe(0);
+      expect(rule?.bound).toBeCloseTo(expected, 14);
+      expect(rule?.bound).toBeLessThanOrEqual(0);
+      expect(rule?.pass).toBe(true);
+      expect(rule?.message).toMatch(/rose by at least/);
+    }
+    expect(checked.verdict?.rules[0].message).toContain('with 97.5 % confidence');
   });
 });

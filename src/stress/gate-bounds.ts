@@ -1,0 +1,68 @@
+import type { PolicyRule } from '../schema/proposal.js';
+import { sdStdErrOfStrided, stridedMoments } from '../statistics/batch-means.js';
+import { maxSdBound } from '../statistics/max-sd-bound.js';
+import { BAND_EDGE_TOLERANCE, outsideBandCounts, outsideBandShareBound, type OutsideBandCounts } from '../statistics/stability.js';
+import type { StressRun } from './paired.js';
+
+/** Figures the gate judges by a simultaneous bound over the assets rather than value ∓ z·se. */
+export type SimultaneousMetric = Extract<PolicyRule['metric'], 'outside-band-share' | 'max-weight-sd'>;
+
+export function isSimultaneousMetric(metric: PolicyRule['metric']): metric is SimultaneousMetric {
+  return metric === 'outside-band-share' || metric === 'max-weight-sd';
+}
+
+/** A one-sided confidence bound of a figure, and how many assets it counts (for the rule's sentence). */
+export interface FigureBound {
+  readonly bound: number;
+  /** outside-band-share: assets confidently outside (lower) or not confidently inside (upper), of `assets`. */
+  readonly outside?: number;
+  readonly assets?: number;
+}
+
+/**
+ * The bound of one method's figure at level α: side 'lower' lies below the figure's limit (its value
+ * with infinitely many draws) with probability ≥ 1 − α, 'upper' above it. Undefined when not
+ * estimable (fewer than 2 successful draws). `methodIndex` indexes the report's methods.
+ */
+export type FigureBoundSource = (metric: SimultaneousMetric, methodIndex: number, side: 'lower' | 'upper', alpha: number) => FigureBound | undefined;
+
+/** The per-draw statistics one method's bounds need (computed once per method, on first use). */
+interface MethodStatistics {
+  readonly counts: OutsideBandCounts;
+  readonly sd: Float64Array;
+  readonly sdStdErr: Float64Array;
+}
+
+/**
+ * Bounds from a finished run's per-draw data (stability.ts for the outside-band share,
+ * max-sd-bound.ts for the largest weight sd). Every input is a sum or moment over the per-draw
+ * slots, so ranges of draws computed apart (threads, shards) give the same bounds.
+ */
+export function figureBoundsOf(run: StressRun): FigureBoundSource {
+  const cache = new Map<number, MethodStatistics>();
+  const statistics = (k: number): MethodStatistics | undefined => {
+    const known = cache.get(k);
+    if (known) return known;
+    const method = run.acc.methods[k];
+    if (!method) return undefined;
+    const n = run.plan.problem.n;
+    const draws = run.plan.draws;
+    const rows = method.weights.rows();
+    const sd = new Float64Array(n);
+    const sdStdErr = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      sd[i] = stridedMoments(rows, i, n, draws).sd;
+      sdStdErr[i] = sdStdErrOfStrided(rows, i, n, draws);
+    }
+    const made = { counts: outsideBandCounts(rows, draws, n, run.plan.problem.proposalWeights, BAND_EDGE_TOLERANCE), sd, sdStdErr };
+    cache.set(k, made);
+    return made;
+  };
+  return (metric, k, side, alpha) => {
+    const s = statistics(k);
+    if (!s) return undefined;
+    if (metric === 'outside-band-share') return outsideBandShareBound(s.counts, side, alpha);
+    const b = maxSdBound(s.sd, s.sdStdErr, side, alpha);
+    return b === undefined ? undefined : { bound: b.bound };
+  };
+}
