@@ -2,7 +2,7 @@ import type { MethodName, MethodSpec, Policy, PolicyRule } from '../schema/propo
 import { counterpartIndex } from './paired.js';
 import type { Report, Verdict } from '../schema/report.js';
 import { normalQuantile } from '../statistics/normal-quantile.js';
-import { isSimultaneousMetric, type FigureBoundSource } from './gate-bounds.js';
+import { hasDrawBound, isPercentileMetric, isSimultaneousMetric, type FigureBoundSource } from './gate-bounds.js';
 
 /** A report figure with its Monte Carlo standard error. */
 export interface MetricEstimate {
@@ -100,12 +100,18 @@ interface JudgedBound {
 /**
  * The bound of one figure at level α on one side. Stepwise and maximum figures (outside-band
  * share, max weight sd) use their simultaneous bound over the assets from the run's per-draw data
- * (gate-bounds.ts) when a source is given; every other figure — and those two when only a report
- * is at hand — uses value ∓ z_α·se. Not estimable: the value itself, with a note.
+ * (gate-bounds.ts) when a source is given, and the median turnover its order-statistic bound
+ * (quantile-bound.ts); every other figure — and those when only a report is at hand — uses
+ * value ∓ z_α·se. Not estimable: the value itself, with a note.
  */
 function boundOf(metric: PolicyRule['metric'], est: MetricEstimate, side: 'lower' | 'upper', alpha: number, confidence: number, source: FigureBoundSource | undefined): JudgedBound {
   const sign = side === 'lower' ? -1 : 1;
   const atLeast = side === 'lower' ? 'at least' : 'at most';
+  if (isPercentileMetric(metric) && source !== undefined && est.index !== undefined) {
+    const b = source(metric, est.index, side, alpha);
+    // No order statistic reaches the level only with a handful of draws: then value ∓ z·se below.
+    if (b !== undefined) return { bound: b.bound, words: `with ${percent(confidence)} confidence it is ${atLeast} ${fmt(b.bound)} (an order statistic of the draws)`, note: '' };
+  }
   if (isSimultaneousMetric(metric) && source !== undefined && est.index !== undefined) {
     const b = source(metric, est.index, side, alpha);
     if (b === undefined) return { bound: est.value, words: `it is ${fmt(est.value)}`, note: NOT_ESTIMABLE };
@@ -118,7 +124,7 @@ function boundOf(metric: PolicyRule['metric'], est: MetricEstimate, side: 'lower
   // confidence = 1 − alpha, passed as given so z is the policy's own Φ⁻¹(confidence).
   const z = normalQuantile(confidence);
   const bound = est.value + sign * z * est.stdErr;
-  const note = isSimultaneousMetric(metric) ? NO_RUN_DATA : '';
+  const note = hasDrawBound(metric) && source === undefined ? NO_RUN_DATA : '';
   return { bound, words: `with ${percent(confidence)} confidence it is ${atLeast} ${fmt(bound)} (value ${side === 'lower' ? '−' : '+'} ${fmt(z)} × se)`, note };
 }
 
@@ -133,7 +139,11 @@ export interface GateBoundSources {
  * (α = 1 − c), reported as the rule's `bound`: a max rule fails when the lower bound exceeds the
  * maximum, a min rule when the upper bound is below the minimum.
  *
- * - Smooth figures (turnover, band width, mean-driven share): value ∓ z·se, z = Φ⁻¹(c).
+ * - Smooth figures (mean turnover, band width, mean-driven share): value ∓ z·se, z = Φ⁻¹(c).
+ * - Median turnover: the distribution-free order-statistic bound of the median from the draws
+ *   (quantile-bound.ts). Turnover piles up at corner portfolios, so the sample median jumps
+ *   between clusters and value ∓ z·se failed a min rule at the true median 16 % of the time
+ *   (demo, 200 draws; DEVELOPERS.md). maxIncrease keeps the paired value ∓ z·se.
  * - Outside-band share and max weight sd: a simultaneous bound over the assets from the per-draw
  *   data (stability.ts, max-sd-bound.ts). The share moves in whole-asset steps and the sample
  *   maximum of several sds is biased upward, so value ∓ z·se would fail a rule that holds far more
