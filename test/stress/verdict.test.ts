@@ -118,6 +118,31 @@ describe('judge: the outside-band share and the max weight sd by simultaneous bo
     expect(verdict.rules[0].message).toMatch(/for all assets at once, the largest weight sd is at least/);
   });
 
+  it('bounds the median turnover by order statistics of the draws: the 88th and 113th of 200 at 95 % (min and max rules)', async () => {
+    const v = proposal();
+    const { report: r, run } = await stressRun(v.proposal, v.warnings, { draws: 200 });
+    const sorted = Float64Array.from(run.acc.methods[0].turnoverFromProposal.slots()).sort();
+    // All 200 draws succeed here. scipy.stats.binom.ppf(0.95, 200, 0.5) = 112, so the upper bound is
+    // X(113); P(Bin(200, ½) ≤ 87) ≤ 0.05 < P(≤ 88), so the lower bound is X(88) (1-based).
+    expect(sorted.every(Number.isFinite)).toBe(true);
+    const p50 = r.methods[0].turnoverFromProposal.p50;
+    const verdict = judge(
+      r,
+      PolicySchema.parse({ confidence: 0.95, rules: [{ metric: 'turnover-from-proposal.p50', max: p50 }, { metric: 'turnover-from-proposal.p50', min: p50 }] }),
+      undefined,
+      undefined,
+      { candidate: figureBoundsOf(run) },
+    );
+    expect(verdict.rules[0].bound).toBe(sorted[87]);
+    expect(verdict.rules[1].bound).toBe(sorted[112]);
+    expect(verdict.pass).toBe(true);
+    expect(verdict.rules[0].message).toMatch(/at least .* \(an order statistic of the draws\)/);
+    // Without the per-draw data (a saved report) the bound is value − z·se.
+    const saved = judge(r, PolicySchema.parse({ confidence: 0.95, rules: [{ metric: 'turnover-from-proposal.p50', max: p50 }] }));
+    expect(saved.rules[0].bound).toBeCloseTo(p50 - normalQuantile(0.95) * (r.methods[0].turnoverFromProposal.p50StdErr as number), 14);
+    expect(saved.rules[0].message).toMatch(/saved report/);
+  });
+
   it('judges on the value alone, with a note, when the bound is not estimable; says so when only a saved report is at hand', async () => {
     const r = await report();
     const policy = PolicySchema.parse({ rules: [{ metric: 'outside-band-share', max: 0.1 }] });
