@@ -184,7 +184,7 @@ const CONFIDENCE = 0.95;
 /** The levels the gate asks bounds at: α for max and min rules, α/2 per side for maxIncrease. */
 const ALPHA = 1 - CONFIDENCE;
 /** The figures whose gate bound comes from the run's per-draw data (gate-bounds.ts). */
-const DRAW_BOUNDED = ['outside-band-share', 'max-weight-sd', 'turnover-from-proposal.p50'] as const;
+const DRAW_BOUNDED = ['outside-band-share', 'max-weight-sd', 'turnover-from-proposal.p50', 'volatility-band-width'] as const;
 
 /**
  * The bounds the gate will ask of a run's per-draw data (proposal method, both sides, α and α/2),
