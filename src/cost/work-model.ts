@@ -23,11 +23,43 @@ export const EXACT_EIGENVALUE_MAX_N = 300;
 /** Power-iteration steps for the largest eigenvalue in the PSD test (src/schema/matrix-checks.ts). */
 export const POWER_ITERATIONS = 30;
 /**
- * Cost factor of group limits in an active-set solve: about (N + G) iterations, each testing every
- * group row (M memberships) and updating up to min(G, N) explicit rows against N free variables.
- * Fitted on the slowest overlapping-group shapes measured (DEVELOPERS.md).
+ * Cost factor of group limits in a cold active-set solve (a base optimum: phase one, then the
+ * working set built from nothing): about (N + G) iterations, each testing every group row (M
+ * memberships) and updating up to min(G, N) explicit rows against N free variables. Fitted on the
+ * slowest overlapping-group shape measured (optimize, N = 300, 200 groups; DEVELOPERS.md).
  */
 export const GROUP_UNITS_FACTOR = 170;
+/**
+ * A warm-started solve (every per-draw solve starts from the base optimum's working set, which is
+ * feasible for the draw: only H and c move) pays the cold group term times min(1, G / N)^2.
+ * Measured per-draw solves with overlapping groups (noisy parametric draws, `npm run
+ * bench:work-model`), as the share of the cold term each needs to stay at the cold worst rate:
+ * N = 300 with 50 groups 0.022 (charged 0.028), N = 100 with 50 groups 0.023 (0.25), N = 30 with
+ * 10 groups 0.066 (0.11), N = 30 with 50 groups 0.056 (1), N = 100 with 200 groups 0.30 (1: 534
+ * iterations and 1.2 s per solve, as much as a cold solve). With one group against 30 assets the
+ * term is a few hundred units. Not measured warm: N = 300 with 200 groups (a cold solve there is
+ * 35 s; its stress is refused at one draw anyway, the cold base optima alone being 2·10¹⁰).
+ */
+export const WARM_GROUP_EXPONENT = 2;
+/**
+ * Fixed cost of any solve, whatever its size: the result object, KKT residual, diagnostics and
+ * warnings (measured: 0.1–0.5 ms per solve at N ≤ 30, where the flop counts are a few thousand;
+ * charged at 2e5 so the demo stays near 2 ns per unit).
+ */
+export const SOLVE_OVERHEAD_UNITS = 2e5;
+/** Fixed cost of a draw: its random stream, resampled rows, accumulator records (measured ~1 ms a draw at N ≤ 30). */
+export const DRAW_OVERHEAD_UNITS = 5e5;
+/**
+ * Newton steps of scenario Kelly. A cold solve (the base optimum) is charged 12; a warm-started
+ * per-draw solve starts at the base optimum and took 1.0–1.4 steps on average (demo; 30 assets ×
+ * 240 months), charged 3.
+ */
+export const KELLY_COLD_NEWTON_STEPS = 12;
+export const KELLY_WARM_NEWTON_STEPS = 3;
+
+/** Cold: a base optimum (first solve of a problem); warm: a per-draw re-solve from the base optimum's working set. */
+export type SolveStart = 'cold' | 'warm';
+
 /**
  * A dense active-set solve on a singular covariance runs on a ridge and may use its whole
  * iteration budget, max(200, 10·(N + G)) iterations of ~8·N² each (measured: N = 600, rank 2,
@@ -72,26 +104,31 @@ export function estimationUnits(s: RequestShape): number {
 }
 
 /** The explicit-row part of an active-set solve with group limits (0 without groups). */
-export function groupUnits(s: RequestShape): number {
+export function groupUnits(s: RequestShape, start: SolveStart = 'cold'): number {
   if (s.groups === 0) return 0;
-  return GROUP_UNITS_FACTOR * (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
+  const cold = GROUP_UNITS_FACTOR * (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
+  return start === 'cold' ? cold : cold * Math.min(1, s.groups / s.n) ** WARM_GROUP_EXPONENT;
 }
 
-/** One solve of a method on dense or factor inputs. */
-export function solveUnits(spec: MethodSpec, s: RequestShape): number {
+/** One solve of a method on dense or factor inputs, cold (a base optimum) or warm-started (a draw). */
+export function solveUnits(spec: MethodSpec, s: RequestShape, start: SolveStart = 'cold'): number {
+  return SOLVE_OVERHEAD_UNITS + solveWorkUnits(spec, s, start);
+}
+
+function solveWorkUnits(spec: MethodSpec, s: RequestShape, start: SolveStart): number {
   const { n, factors: k } = s;
   const dense = s.inputKind !== 'factor-moments' && !(s.inputKind === 'history' && s.factorModel !== 'none');
   // Factor QPs: Woodbury updates cost O(N·K²) per active-set change, and warm starts still make a
   // few dozen changes at large N (measured: ~3× the dense rate per counted operation at N = 2000, K = 8).
   const singularIterations = s.singular ? Math.max(200, 10 * (n + s.groups)) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * n * n : 0;
-  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularIterations : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s);
+  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularIterations : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s, start);
   switch (spec.name) {
     case 'mean-variance':
     case 'minimum-variance':
       return qp;
     case 'kelly':
       // Newton steps, each forming the scenario Hessian (T·N²) and solving a QP.
-      return s.scenarioKelly ? 12 * (s.rows * n * n + qp) : qp;
+      return s.scenarioKelly ? (start === 'cold' ? KELLY_COLD_NEWTON_STEPS : KELLY_WARM_NEWTON_STEPS) * (s.rows * n * n + qp) : qp;
     case 'risk-parity':
       return !dense ? 10 * n * k * k : n <= 100 ? 8 * (cube(n) / 3) : 100 * n * n;
     case 'equal-weight':
@@ -119,6 +156,11 @@ export function summaryUnits(s: RequestShape): number {
   return stored * (4 + 2 * Math.log2(Math.max(2, s.draws))) + BOOTSTRAP_REPLICATES * s.methods.length * s.draws * s.n;
 }
 
+/** One draw's solves of one method: the joint channel, plus mean-only and covariance-only re-solves for methods that read the means. */
+export function perDrawMethodUnits(spec: MethodSpec, s: RequestShape): number {
+  return (usesMean(spec) ? 3 : 1) * solveUnits(spec, s, 'warm');
+}
+
 export interface WorkBreakdown {
   readonly validation: number;
   readonly preparation: number;
@@ -135,11 +177,10 @@ export function stressBreakdown(s: RequestShape): WorkBreakdown {
   // Every method once at the base inputs, and the mean-variance reference for the certainty-equivalent score.
   const reference: MethodSpec = { name: 'mean-variance', riskAversion: 1 };
   let baseSolves = solveUnits(reference, s);
-  let perDraw = estimationUnits(s) + proposalFigureUnits(s);
+  let perDraw = DRAW_OVERHEAD_UNITS + estimationUnits(s) + proposalFigureUnits(s);
   for (const m of s.methods) {
     baseSolves += solveUnits(m, s);
-    // The joint channel, plus mean-only and covariance-only re-solves for methods that read the means.
-    perDraw += (usesMean(m) ? 3 : 1) * solveUnits(m, s);
+    perDraw += perDrawMethodUnits(m, s);
   }
   const draws = s.draws * perDraw;
   const summary = summaryUnits(s);

@@ -12,7 +12,13 @@ import type { QpHessian, QpMultipliers, QpProblem } from './qp-types.js';
  *   complementarity   z_i·(x_i − l_i) = 0 for z_i > 0, z_i·(u_i − x_i) = 0 for z_i < 0; same for groups.
  *
  * Residuals are scaled so that 1e-9 means "correct to about nine digits": stationarity and dual
- * sign by G = max(‖c‖∞, ‖Hx‖∞); primal by W = max(1, |budget|, ‖x‖∞); complementarity by G·W.
+ * sign by G = max(‖c‖∞, ‖Hx‖∞, h·W) with h = max_i H_ii (for a positive semi-definite H the
+ * largest entry in magnitude); primal by W = max(1, |budget|, ‖x‖∞); complementarity by G·W.
+ * The h·W term is the normwise scale of a backward error, residual / (‖H‖‖x‖ + ‖c‖) (Rigal &
+ * Gaches 1967; Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed. 2002, §7.1): the
+ * gradient Hx cannot be known better than about ε·h·W, because x itself is only known to ε·W.
+ * Without it, a riskless optimum (wᵀΣw = 0, e.g. all in a constant-return asset) has Hx ≈ 0 and
+ * c = 0, so G would be the rounding noise itself and the residual of a correct answer about 1.
  */
 export interface KktReport {
   readonly stationarity: number;
@@ -54,6 +60,27 @@ export function hessianTimes(h: QpHessian, x: Float64Array, out: Float64Array): 
   return out;
 }
 
+/** max_i H_ii: the largest diagonal entry (dense: scale·M_ii; factor: λ_f·B_iFB_iᵀ + λ_s·d_i). */
+export function hessianDiagonalMax(h: QpHessian): number {
+  let largest = 0;
+  if (h.kind === 'dense') {
+    const scale = h.scale ?? 1;
+    for (let i = 0; i < h.n; i++) largest = Math.max(largest, Math.abs(scale * h.matrix[i * h.n + i]));
+    return largest;
+  }
+  const { n, k, loadings: b, factorCov: f, specificVar: d } = h.model;
+  for (let i = 0; i < n; i++) {
+    let quadratic = 0;
+    for (let a = 0; a < k; a++) {
+      let s = 0;
+      for (let c = 0; c < k; c++) s += f[a * k + c] * b[i * k + c];
+      quadratic += b[i * k + a] * s;
+    }
+    largest = Math.max(largest, Math.abs(h.factorScale * quadratic + h.specificScale * d[i]));
+  }
+  return largest;
+}
+
 /** ½xᵀHx − cᵀx. */
 export function qpObjective(problem: QpProblem, x: Float64Array): number {
   const hx = hessianTimes(problem.hessian, x, new Float64Array(x.length));
@@ -73,6 +100,7 @@ export function kktReport(problem: QpProblem, x: Float64Array, multipliers: QpMu
     gradientScale = Math.max(gradientScale, Math.abs(linear[i]), Math.abs(hx[i]));
     weightScale = Math.max(weightScale, Math.abs(x[i]));
   }
+  gradientScale = Math.max(gradientScale, hessianDiagonalMax(problem.hessian) * weightScale);
   if (!(gradientScale > 0)) gradientScale = 1;
 
   // Stationarity: r = Hx − c − ν1 − Σ ν_g 1_g − z.

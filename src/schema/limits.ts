@@ -17,9 +17,9 @@ export const LIMITS = {
   /**
    * Work budget in counted units for a whole request: validation, preparation, every solve of
    * every channel of every draw, summaries, and both runs of a check against a baseline proposal
-   * (src/cost/work-model.ts). Calibrated on the worst shape of each kind at up to about 2 ns per
-   * unit on a 2-core development machine (DEVELOPERS.md, "Request cost"), so the budget is at
-   * most ~40 s of CPU, well inside the Worker's configured cpu_ms (wrangler.toml). Deployments
+   * (src/cost/work-model.ts). Calibrated on the worst shape of each kind at up to about 5 ns per
+   * unit on a shared 2-core development machine (DEVELOPERS.md, "Request cost"), so the budget is
+   * at most ~100 s of CPU, inside the Worker's configured cpu_ms (wrangler.toml). Deployments
    * may pass a lower maximum (run options `maxWork`).
    */
   maxWorkUnits: 2e10,

@@ -140,7 +140,7 @@ export const MethodReportSchema = z.strictObject({
     .strictObject({
       overall: z.number().min(0).max(1),
       perAsset: z.array(z.number().min(0).max(1)),
-      stdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `overall` (delete-one-group jackknife).'),
+      stdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `overall` (delete-one-group jackknife); 0 when the share cannot move; null, with a warning, when a channel moved the weights in too few draws for an error to be read from them (see meta.monteCarloError).'),
     })
     .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
   meanOfOptima: z.array(z.number()).describe('Mean of the re-optimised weights: each asset’s weight averaged over the successful draws.'),

@@ -39,8 +39,16 @@ import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
  *   the channel accumulator stores (Efron & Tibshirani 1993, ch. 11), SE² = (m−1)/m·Σ(θ₍ₖ₎ − θ̄)².
  *   Paired: the jackknife of the difference over the same groups. With fewer than 2 groups
  *   (B < 20): the bound 0.5, the largest sd of a [0, 1]-valued quantity (Popoviciu's inequality).
+ *   Exactly 0 when the share cannot move (a method that ignores the means, or no channel moved).
+ *   Not estimable (null, with a warning giving the draws that would help) when a channel that can
+ *   move has its spread in fewer than min(5, m/2) effective groups (Kish's (Σ T_k)²/Σ T_k² over the
+ *   groups' sums of squared deviations; 0 if it never moved): such a spread rests on a few rare
+ *   draws (full Kelly at a corner), whose count across reruns is Poisson-like with a small mean λ,
+ *   so any error read from the draws averages λ·δ against a true spread √λ·δ (see
+ *   channel-variance.ts). Paired: not estimable when either run's is.
  * - Selection rate: the binomial √(p(1−p)/(n−1)).
- * - Fewer than 2 successful draws: the error cannot be estimated; the report gives null and a warning.
+ * - Fewer than 2 successful draws (or a mean-driven share resting on rare draws, above): the error
+ *   cannot be estimated; the report gives null and a warning.
  *
  * The gate (`check`, src/stress/verdict.ts) judges each rule by a one-sided confidence bound at the
  * policy's confidence, reported as the rule's `bound`: value ∓ z·SE for the figures above, but for
@@ -61,8 +69,11 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'the correlation counted over the paired draws). Standard deviations: the delta method with the fourth moment. ' +
   'Outside-band share: a bootstrap of the draws (200 replicates, seeded, draws resampled by index). ' +
   'Mean-driven share: a delete-one-group jackknife over min(30, floor(B/10)) contiguous groups of draws ' +
-  '(the bound 0.5 below 20 draws). Selection rate: sqrt(p(1-p)/(n-1)). ' +
-  'Errors that cannot be estimated (fewer than 2 successful draws) are reported as null, with a warning. ' +
+  '(the bound 0.5 below 20 draws; exactly 0 when the share cannot move, e.g. a method that ignores the means; ' +
+  'null, with a warning, when the mean-only or covariance-only channel moved the weights in so few draws ' +
+  '(fewer than min(5, groups/2) effective groups) that the share rests on rare draws whose error the draws cannot show). ' +
+  'Selection rate: sqrt(p(1-p)/(n-1)). ' +
+  'Errors that cannot be estimated (fewer than 2 successful draws, or a mean-driven share resting on rare draws) are reported as null, with a warning. ' +
   'The gate (check) judges each rule by a one-sided confidence bound at the policy confidence (verdict rule `bound`): ' +
   'value -/+ z*SE, z = the normal quantile at the confidence, except for two figures that a standard error cannot gate honestly. ' +
   'Outside-band share (it moves in whole assets): per asset, exact binomial tests on the draws of whether the proposed weight lies ' +

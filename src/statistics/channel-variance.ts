@@ -26,6 +26,22 @@ import { checkAssetCount, checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_
  * by draw index, see batch-means.ts): `overall` recomputed from the exact sums of all groups but
  * one, for each group in turn; 0.5 (the largest sd of a [0, 1] quantity) with fewer than
  * 2 usable groups.
+ *
+ * Rare moves. A channel that moves the weights in only a few draws (Kelly at a corner: the
+ * covariance-only channel changes the corner in about 1 draw of 8000 on the D1 case) has a
+ * variance carried by those few draws. Across reruns the number of such draws is roughly Poisson
+ * with a small mean λ, so the share's spread is about √λ·δ while the errors the runs report
+ * average λ·δ (0 in every run that saw none): ratio 1/√λ, 4–6 at 200–500 draws. No estimator
+ * built from the draws can see a move that none of them made, so when a channel that can move
+ * (see ChannelSummaryOptions) has its spread concentrated in fewer than
+ * MIN_EFFECTIVE_GROUPS effective groups — Kish's effective number (Σ_k T_k)²/Σ_k T_k² of the
+ * groups' contributions T_k to the channel's sum of squared deviations (Kish 1965, Survey
+ * Sampling, §11.7; 0 when the channel never moved) — the error is not estimable: NaN, method
+ * 'not-estimable', and the draws that would give about MIN_EFFECTIVE_GROUPS moves are reported
+ * (draws × target / effective groups; with none seen, the rule of three bounds the move rate by
+ * 3/draws at 95 % (Hanley & Lippman-Hand 1983, JAMA 249), so at least draws × target / 3).
+ * A share that cannot move at all (both channels constant; or the mean-only channel fixed by
+ * construction, as for methods that ignore the means) has error exactly 0.
  */
 
 export type VarianceChannel = 'mean-only' | 'covariance-only';
@@ -36,11 +52,34 @@ const INVERSE_GRID = [2 ** -24, 2 ** 4, 2 ** 32, 2 ** 60, 2 ** 88];
 /** Veltkamp splitter 2^27 + 1 for doubles (Dekker 1971). */
 const SPLITTER = 134217729;
 
+/**
+ * Smallest Kish effective number of groups carrying a movable channel's spread for the jackknife
+ * error to be reported (fewer: the spread rests on a few rare draws, see the module comment).
+ * With fewer than 10 groups the target is half of them.
+ */
+export const MIN_EFFECTIVE_GROUPS = 5;
+
+/** Which channels cannot move by construction (their constancy is not a sampling accident). */
+export interface ChannelSummaryOptions {
+  /** The method ignores the means: the engine records the base weights in the mean-only channel. */
+  readonly meanChannelFixed?: boolean;
+  /** The method ignores the risk model (its covariance-only channel is constant by construction). */
+  readonly covarianceChannelFixed?: boolean;
+}
+
 export interface MeanDrivenShareSummary {
   /** Σ_i Var_mean,i / Σ_i (Var_mean,i + Var_cov,i), 0 when the denominator is 0. */
   readonly overall: number;
+  /** NaN when not estimable (a movable channel's spread rests on too few draws). */
   readonly overallStdErr: number;
-  readonly overallErrorMethod: 'jackknife' | 'bound';
+  readonly overallErrorMethod: 'jackknife' | 'bound' | 'exact' | 'not-estimable';
+  /** Kish effective number of groups carrying each channel's spread (0: never moved). */
+  readonly meanChannelEffectiveGroups: number;
+  readonly covarianceChannelEffectiveGroups: number;
+  /** The effective-group target used (MIN_EFFECTIVE_GROUPS, or half the groups when fewer than 10). */
+  readonly effectiveGroupTarget: number;
+  /** When not estimable: roughly how many draws would let the error be estimated (else 0). */
+  readonly drawsForEstimableError: number;
   /** Groups whose leave-one-out share could be computed (used for the error). */
   readonly usableBatches: number;
   readonly perAsset: Float64Array;
@@ -160,7 +199,7 @@ export class ChannelVarianceAccumulator {
     }
   }
 
-  summarize(): MeanDrivenShareSummary {
+  summarize(options: ChannelSummaryOptions = {}): MeanDrivenShareSummary {
     const n = this.assets;
     const m = this.batches;
     const meanChannelVariance = new Float64Array(n);
@@ -206,10 +245,25 @@ export class ChannelVarianceAccumulator {
     const useBatches = usableBatches >= 2;
     const meanCounts = this.channelCounts(0);
     const covarianceCounts = this.channelCounts(1);
+    const meanChannelEffectiveGroups = this.effectiveGroups(0);
+    const covarianceChannelEffectiveGroups = this.effectiveGroups(1);
+    const error = shareError({
+      fixed: [options.meanChannelFixed === true, options.covarianceChannelFixed === true],
+      effective: [meanChannelEffectiveGroups, covarianceChannelEffectiveGroups],
+      moved: denominator > 0,
+      groups: m,
+      draws: this.draws,
+      useBatches,
+      jackknife: () => jackknifeStdErr(looShares, m),
+    });
     return {
       overall,
-      overallStdErr: useBatches ? jackknifeStdErr(looShares, m) : UNIT_INTERVAL_MAX_SD,
-      overallErrorMethod: useBatches ? 'jackknife' : 'bound',
+      overallStdErr: error.stdErr,
+      overallErrorMethod: error.method,
+      meanChannelEffectiveGroups,
+      covarianceChannelEffectiveGroups,
+      effectiveGroupTarget: effectiveGroupTarget(m),
+      drawsForEstimableError: error.drawsNeeded,
       usableBatches,
       perAsset,
       meanChannelVariance,
@@ -282,6 +336,58 @@ export class ChannelVarianceAccumulator {
     return out;
   }
 
+  /**
+   * Kish's effective number of groups (Σ_k T_k)²/Σ_k T_k² carrying channel c's spread, T_k the
+   * group's contribution Σ_i Σ_{b∈k} (w_bi − w̄_i)² = within-group sum of squares (double-double,
+   * exactly 0 for a constant group) + n_k(w̄_ki − w̄_i)². 0 when the channel never moved (every
+   * asset's min equals its max over all groups).
+   */
+  effectiveGroups(c: number): number {
+    const n = this.assets;
+    const m = this.batches;
+    let total = 0;
+    for (let k = 0; k < m; k++) total += this.counts[c * m + k];
+    if (total < 2) return 0;
+    const contribution = new Float64Array(m);
+    const scratch = new Float64Array(LEVELS);
+    let moved = false;
+    for (let i = 0; i < n; i++) {
+      let low = Number.POSITIVE_INFINITY;
+      let high = Number.NEGATIVE_INFINITY;
+      for (let k = 0; k < m; k++) {
+        const cell = (c * m + k) * n + i;
+        if (this.minimum[cell] < low) low = this.minimum[cell];
+        if (this.maximum[cell] > high) high = this.maximum[cell];
+      }
+      if (low === high) continue;
+      moved = true;
+      scratch.fill(0);
+      for (let k = 0; k < m; k++) {
+        const cell = (c * m + k) * n + i;
+        for (let level = 0; level < LEVELS; level++) scratch[level] += this.sumPieces[cell * LEVELS + level];
+      }
+      piecesToDoubleDouble(scratch, 0);
+      const mean = (ddHigh + ddLow) / total;
+      for (let k = 0; k < m; k++) {
+        const count = this.counts[c * m + k];
+        if (count === 0) continue;
+        const cell = (c * m + k) * n + i;
+        const within = count < 2 ? 0 : (count - 1) * varianceFromPieces(count, this.sumPieces, cell * LEVELS, this.squarePieces, cell * LEVELS, this.minimum[cell], this.maximum[cell]);
+        piecesToDoubleDouble(this.sumPieces, cell * LEVELS);
+        const offset = (ddHigh + ddLow) / count - mean;
+        contribution[k] += within + count * offset * offset;
+      }
+    }
+    if (!moved) return 0;
+    let sum = 0;
+    let squares = 0;
+    for (let k = 0; k < m; k++) {
+      sum += contribution[k];
+      squares += contribution[k] * contribution[k];
+    }
+    return squares > 0 ? (sum * sum) / squares : 0;
+  }
+
   private channelCounts(c: number): { succeeded: number; failed: number } {
     let succeeded = 0;
     let failed = 0;
@@ -332,6 +438,43 @@ export class ChannelVarianceAccumulator {
     }
     return accumulator;
   }
+}
+
+/** The effective-group target for m groups: MIN_EFFECTIVE_GROUPS, or m/2 with fewer than 10 groups. */
+export function effectiveGroupTarget(groups: number): number {
+  return Math.min(MIN_EFFECTIVE_GROUPS, groups / 2);
+}
+
+/**
+ * The share's error from what the channels show (see the module comment): exactly 0 when the
+ * share cannot move, NaN ('not-estimable') when a movable channel's spread rests on fewer than
+ * the target effective groups, else the jackknife (or the 0.5 bound below 2 groups).
+ */
+export function shareError(input: {
+  readonly fixed: readonly [boolean, boolean];
+  readonly effective: readonly [number, number];
+  /** Some channel moved (Σ_i Var_mean,i + Var_cov,i > 0). */
+  readonly moved: boolean;
+  readonly groups: number;
+  readonly draws: number;
+  readonly useBatches: boolean;
+  readonly jackknife: () => number;
+}): { stdErr: number; method: MeanDrivenShareSummary['overallErrorMethod']; drawsNeeded: number } {
+  // A channel fixed by construction pins the share (0 if the mean-only one, 1 if the
+  // covariance-only one, whatever the draws); nothing moved: nothing to err.
+  if (input.fixed[0] || input.fixed[1] || !input.moved) return { stdErr: 0, method: 'exact', drawsNeeded: 0 };
+  if (!input.useBatches) return { stdErr: UNIT_INTERVAL_MAX_SD, method: 'bound', drawsNeeded: 0 };
+  const target = effectiveGroupTarget(input.groups);
+  let drawsNeeded = 0;
+  for (let c = 0; c < 2; c++) {
+    if (input.fixed[c] || input.effective[c] >= target) continue;
+    // Moves seen in e effective groups of B draws: about B·target/e draws give target of them;
+    // none seen: the rule of three (rate < 3/B) makes it at least B·target/3.
+    const needed = Math.ceil((input.draws * target) / (input.effective[c] > 0 ? input.effective[c] : 3));
+    drawsNeeded = Math.max(drawsNeeded, needed);
+  }
+  if (drawsNeeded > 0) return { stdErr: Number.NaN, method: 'not-estimable', drawsNeeded };
+  return { stdErr: input.jackknife(), method: 'jackknife', drawsNeeded: 0 };
 }
 
 /** Var_mean/(Var_mean + Var_cov), 0 when both are 0. */

@@ -214,6 +214,11 @@ export function pairedStdErr(candidate: StressRun, baseline: StressRun, metric: 
       // Break-even shifts are exact (no draws): the difference of two runs has no Monte Carlo error.
       return 0;
     case 'mean-driven-share': {
+      // A share whose own error is not estimable (a channel's spread rests on a few rare draws)
+      // makes the difference's error not estimable either.
+      const fixedA = { meanChannelFixed: !candidate.plan.solvers[ka].usesMean };
+      const fixedB = { meanChannelFixed: !baseline.plan.solvers[kb].usesMean };
+      if (ma.channels.summarize(fixedA).overallErrorMethod === 'not-estimable' || mb.channels.summarize(fixedB).overallErrorMethod === 'not-estimable') return Number.NaN;
       const a = ma.channels.leaveOneGroupOutShares();
       const b = mb.channels.leaveOneGroupOutShares();
       if (a.length !== b.length || a.length < 2) return undefined;

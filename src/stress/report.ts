@@ -61,7 +61,20 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
         message: `${methodKey(spec)} succeeded in ${summary.successfulDraws} of ${plan.draws} draws: its Monte Carlo errors cannot be estimated (reported as null)${summary.successfulDraws === 0 ? ' and its draw-based figures are placeholders (0), not estimates' : ''}; see meta.failureReasons.`,
       });
     }
-    const shares = a.channels.summarize();
+    const shares = a.channels.summarize({ meanChannelFixed: !plan.solvers[k].usesMean });
+    if (shares.overallErrorMethod === 'not-estimable') {
+      const unseen = Math.min(shares.meanChannelEffectiveGroups, shares.covarianceChannelEffectiveGroups) === 0;
+      warnings.push({
+        code: 'mean-driven-share-not-estimable',
+        message:
+          `${methodKey(spec)}: the Monte Carlo error of the mean-driven share cannot be estimated from ${plan.draws} draws (reported as null): ` +
+          `one of its channels moved the weights in very few draws (effective groups of draws carrying the spread: mean-only ${shares.meanChannelEffectiveGroups.toFixed(1)}, ` +
+          `covariance-only ${shares.covarianceChannelEffectiveGroups.toFixed(1)}; at least ${shares.effectiveGroupTarget} needed), so the share rests on rare draws and a rerun could move it by more than these draws can show. ` +
+          (unseen
+            ? `That channel never moved in these draws, so its moves are rarer than about 3 in ${plan.draws}: at least ${shares.drawsForEstimableError} draws would be needed, possibly far more.`
+            : `About ${shares.drawsForEstimableError} draws or more would let it be estimated.`),
+      });
+    }
     const stability = outsideBandShare(a.weights.rows(), plan.draws, n, p.proposalWeights, BAND_EDGE_TOLERANCE, plan.seed);
     let maxSd = 0;
     let maxSdErr = summary.successfulDraws < 2 ? Number.NaN : 0;

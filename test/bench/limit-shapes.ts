@@ -3,11 +3,13 @@
  * (invented data, for timing and memory only). Each shape is sized up to the work, memory and
  * response limits by src/cost itself, so the measurements check the models at their edges.
  */
+import { readFileSync } from 'node:fs';
 import { priceRequest } from '../../src/cost/check.js';
 import { requestShape, type Job } from '../../src/cost/request-shape.js';
 import type { Proposal, ProposalInput } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
 import { methodList } from '../../src/stress/problem.js';
+import { targetStressProposal } from './problems.js';
 
 /** Park–Miller uniforms (as test/bench/problems.ts), so every run builds the same data. */
 function uniforms(seed: number): () => number {
@@ -112,13 +114,22 @@ function groups(assets: string[], g: number, share: number, u: () => number): No
   });
 }
 
+/** Like `groups`, but every maximum is at or above the equal-weight share (0–15 % above), so equal weights are feasible. */
+function feasibleGroups(assets: string[], g: number, share: number, u: () => number): NonNullable<ProposalInput['constraints']>['groups'] {
+  return Array.from({ length: g }, (_, k) => {
+    const members = assets.filter(() => u() < share);
+    const chosen = members.length > 0 ? members : [assets[k % assets.length]];
+    return { name: `group-${k}`, assets: chosen, max: Math.min(1, (chosen.length / assets.length) * (1 + 0.15 * u())) };
+  });
+}
+
 /**
  * The shapes. `fraction` scales the draws of the stress shapes (1 = the largest accepted); the
  * optimize shapes are at the largest accepted size already.
  */
-export type ShapeKind = 'optimize' | 'repair' | 'groups' | 'parametric' | 'history' | 'kelly' | 'factor' | 'check';
+export type ShapeKind = 'optimize' | 'repair' | 'groups' | 'warm-groups' | 'parametric' | 'history' | 'kelly' | 'factor' | 'check';
 
-export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimize', 'repair', 'groups', 'parametric', 'history', 'kelly', 'factor', 'check']): LimitShape[] {
+export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimize', 'repair', 'groups', 'warm-groups', 'parametric', 'history', 'kelly', 'factor', 'check']): LimitShape[] {
   const u = uniforms(20261202);
   const out: LimitShape[] = [];
   const want = (k: ShapeKind): boolean => kinds.includes(k);
@@ -154,6 +165,13 @@ export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimi
       constraints: { upper: 0.05, groups: groups(n300, 200, 0.3, u) },
     },
   });
+
+  // Per-draw solves with more groups than assets: the warm start's working set moves as much as a
+  // cold solve's (the measured worst of the warm group term, src/cost/work-model.ts).
+  if (want('warm-groups')) {
+    const shape = calibrationShapes().find((c) => c.name.startsWith('dense N=100') && c.name.endsWith(' 200 overlapping groups'));
+    if (shape) out.push(withDraws('stress', `stress: ${shape.name}`, shape.body, undefined, fraction));
+  }
 
   const historyN = largestN('stress', (n) => ({
     assets: ids(n),
@@ -225,5 +243,52 @@ export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimi
     constraints: { upper: 0.05, groups: groups(n200, 20, 0.3, u) },
   };
   if (want('check')) out.push(withDraws('check', 'check: history N=200, T=500, 3 methods, 20 groups, baseline proposal', checkBody, { ...checkBody, weights: n200.map((_, i) => (i < 100 ? 1.5 : 0.5) / 200) }, fraction));
+  return out;
+}
+
+/**
+ * Ordinary requests for `npm run bench:limits` (at their own draws, not sized to the limits): the
+ * 30-asset monthly history with all six methods and one group at 1500 draws (the scale-out
+ * benchmark's case), the demo at its 500 draws, and the same history with 50 and 200 overlapping
+ * groups at 500 draws or the most the work limit accepts.
+ */
+export function ordinaryShapes(): LimitShape[] {
+  const [target, demo, , g50, g200] = calibrationShapes();
+  const at = (name: string, body: ProposalInput, draws: number): LimitShape => {
+    const accepted = Math.max(1, Math.min(draws, maxDraws('stress', body, undefined, draws)));
+    return { name: `ordinary: ${name} (${accepted} draws${accepted < draws ? `, the most accepted of ${draws}` : ''})`, job: 'stress', body: { ...body, resampling: { ...body.resampling, draws: accepted, seed: 'limits' } } };
+  };
+  return [at(target.name, target.body, 1500), at(demo.name, demo.body, 500), at(g50.name, g50.body, 500), at(g200.name, g200.body, 500)];
+}
+
+/**
+ * Shapes for the work model's calibration (test/bench/work-calibration.ts) and the ordinary rows
+ * of `npm run bench:limits`: the 30-asset monthly history (six methods) with 1 to 200 groups, the
+ * demo, and wider dense problems with many overlapping groups, whose noisy draws move the warm
+ * start's working set the most. Draws are set by the caller.
+ */
+export function calibrationShapes(): { name: string; body: ProposalInput }[] {
+  const u = uniforms(20261203);
+  const out: { name: string; body: ProposalInput }[] = [];
+  const target = targetStressProposal('all');
+  const a30 = target.assets;
+  out.push({ name: '30 assets, T=240, six methods, 1 group', body: target });
+  out.push({ name: 'demo (10 assets, T=180, six methods, 2 groups)', body: JSON.parse(readFileSync(new URL('../../schemas/examples/demo-proposal.json', import.meta.url), 'utf8')) as ProposalInput });
+  for (const g of [10, 50, 200]) {
+    out.push({ name: `30 assets, T=240, six methods, ${g} overlapping groups`, body: { ...target, constraints: { ...target.constraints, groups: feasibleGroups(a30, g, 0.3, u) } } });
+  }
+  for (const n of [100, 300]) {
+    const a = ids(n);
+    const dense = (g: number): ProposalInput => ({
+      assets: a,
+      weights: a.map(() => 1 / n),
+      inputs: { mean: a.map(() => Number((0.003 + 0.01 * u()).toFixed(6))), covariance: covariance(n, u), observations: 60, periodsPerYear: 12 },
+      method: { name: 'mean-variance', riskAversion: 2 },
+      compare: [{ name: 'minimum-variance' }],
+      constraints: { upper: Math.min(1, 15 / n), ...(g > 0 ? { groups: feasibleGroups(a, g, 0.3, u) } : {}) },
+      resampling: { scheme: 'parametric' },
+    });
+    for (const g of [0, 50, 200]) out.push({ name: `dense N=${n}, parametric (60 obs.), mean-variance + minimum-variance, ${g} overlapping groups`, body: dense(g) });
+  }
   return out;
 }

@@ -9,6 +9,8 @@ import { validateProposal } from '../../src/schema/validate.js';
 import { methodList } from '../../src/stress/problem.js';
 import { optimizeProposal, stressProposal } from '../../src/stress/run.js';
 import { historyProposal, momentsProposal } from '../helpers/proposals.js';
+import { calibrationShapes } from '../bench/limit-shapes.js';
+import { targetStressProposal } from '../bench/problems.js';
 
 const shapeOf = (body: ProposalInput, draws?: number) => {
   const p = ProposalSchema.parse(body);
@@ -108,5 +110,87 @@ describe('limits are checked before the costly steps', () => {
     expect(priceRequest('stress', dense).over).toBeDefined();
     expect(requestMemory('stress', dense)).toBeGreaterThan(LIMITS.maxMemoryBytes);
     expect(memoryBreakdown('stress', dense).matrices).toBeGreaterThan(4 * 2000 * 2000 * 8);
+  });
+});
+
+/**
+ * Measured CPU (`npm run bench:work-model`, `npm run bench:limits`; DEVELOPERS.md, "Request cost"):
+ * the model must charge every measured shape at least its CPU at the worst rate the limit is
+ * sized with (a shape priced under its measured cost would let 2·10¹⁰ units run past the CPU
+ * allowance), and must not refuse the ordinary requests it was re-fitted for.
+ */
+describe('work model against measured CPU', () => {
+  // The worst rate LIMITS.maxWorkUnits is sized with: 2e10 units × 5.1 ns ≈ 100 s of CPU.
+  const WORST_NS_PER_UNIT = 5.1;
+  const shapes = new Map(calibrationShapes().map((c) => [c.name, c.body]));
+  const shapeNamed = (prefix: string, draws = 200) => {
+    const entry = [...shapes.entries()].find(([name]) => name.startsWith(prefix));
+    if (!entry) throw new Error(`no calibration shape ${prefix}`);
+    return shapeOf(entry[1], draws);
+  };
+  const method = (s: ReturnType<typeof shapeOf>, name: string) => {
+    const m = s.methods.find((x) => x.name === name);
+    if (!m) throw new Error(`no ${name}`);
+    return m;
+  };
+
+  it('accepts the 30-asset, six-method, one-group history at 1500 draws (it runs in about 2.5 s)', () => {
+    const s = shapeOf(targetStressProposal('all'), 1500);
+    expect(s.methods).toHaveLength(6);
+    expect(s.groups).toBe(1);
+    const verdict = priceRequest('stress', s);
+    expect(verdict.over).toBeUndefined();
+    // Priced 7.7e9; the old worst-case group and Kelly terms priced it 2.64e10 (refused).
+    expect(verdict.work).toBeLessThan(LIMITS.maxWorkUnits / 2);
+  });
+
+  it('prices a warm-started draw by the share of a cold solve the groups make it move the working set', () => {
+    const few = shapeNamed('dense N=300, parametric (60 obs.), mean-variance + minimum-variance, 50 ');
+    const many = shapeNamed('dense N=100, parametric (60 obs.), mean-variance + minimum-variance, 200 ');
+    // 50 groups on 300 assets: the working set barely moves (2.2 % of the cold term measured).
+    expect(groupUnits(few, 'warm') / groupUnits(few, 'cold')).toBeGreaterThan(0.022);
+    expect(groupUnits(few, 'warm') / groupUnits(few, 'cold')).toBeLessThan(0.1);
+    // More groups than assets: a warm solve took as long as a cold one (534 iterations), priced so.
+    expect(groupUnits(many, 'warm')).toBe(groupUnits(many, 'cold'));
+    const plain = shapeNamed('dense N=300, parametric (60 obs.), mean-variance + minimum-variance, 0 ');
+    expect(groupUnits(plain, 'warm')).toBe(0);
+  });
+
+  // Measured ms per warm-started solve (bench:work-model, 20–200 draws, shared 2-core machine).
+  const measuredPerSolve: [shape: string, method: string, ms: number][] = [
+    ['30 assets, T=240, six methods, 1 group', 'kelly', 1.0],
+    ['30 assets, T=240, six methods, 1 group', 'mean-variance', 0.22],
+    ['30 assets, T=240, six methods, 1 group', 'risk-parity', 0.5],
+    ['demo', 'mean-variance', 0.32],
+    ['demo', 'kelly', 0.66],
+    ['demo', 'risk-parity', 0.44],
+    ['30 assets, T=240, six methods, 50 overlapping', 'mean-variance', 5.15],
+    ['dense N=100, parametric (60 obs.), mean-variance + minimum-variance, 50 ', 'mean-variance', 19.1],
+    ['dense N=100, parametric (60 obs.), mean-variance + minimum-variance, 200 ', 'mean-variance', 1205],
+    ['dense N=100, parametric (60 obs.), mean-variance + minimum-variance, 200 ', 'minimum-variance', 249],
+    ['dense N=300, parametric (60 obs.), mean-variance + minimum-variance, 50 ', 'mean-variance', 129],
+    ['dense N=300, parametric (60 obs.), mean-variance + minimum-variance, 0 ', 'minimum-variance', 40],
+  ];
+  for (const [name, m, ms] of measuredPerSolve) {
+    it(`charges a warm ${m} solve of "${name.trim()}…" at least its measured ${ms} ms at the worst rate`, () => {
+      const s = shapeNamed(name);
+      expect(solveUnits(method(s, m), s, 'warm') * WORST_NS_PER_UNIT * 1e-6).toBeGreaterThanOrEqual(ms);
+    });
+  }
+
+  it('charges the cold worst shape (optimize, N = 300, 200 overlapping groups: 35.4 s measured) at least its CPU', () => {
+    const n = 300;
+    const assets = Array.from({ length: n }, (_, i) => `a${i}`);
+    // 200 groups of ~90 members each (~18 000 memberships), as in the calibration shape.
+    const groups = Array.from({ length: 200 }, (_, g) => ({ name: `g${g}`, assets: assets.filter((_, i) => (i * 7 + g * 13) % 10 < 3), max: 0.35 }));
+    const s = shapeOf(denseProposal(n, { compare: [], constraints: { upper: 0.05, groups } }));
+    expect(s.groupMemberships).toBe(18_000);
+    expect(optimizeBreakdown(s).total * WORST_NS_PER_UNIT * 1e-6).toBeGreaterThanOrEqual(35_416);
+  });
+
+  it('charges whole ordinary requests at least their measured CPU at the worst rate', () => {
+    // 200 draws measured: 30 assets 1 group 1147 + 131 ms; demo 936 + 95 ms.
+    expect(requestWork('stress', shapeNamed('30 assets, T=240, six methods, 1 group')) * WORST_NS_PER_UNIT * 1e-6).toBeGreaterThanOrEqual(1278);
+    expect(requestWork('stress', shapeNamed('demo')) * WORST_NS_PER_UNIT * 1e-6).toBeGreaterThanOrEqual(1031);
   });
 });

@@ -31,8 +31,8 @@ describe('KKT residuals', () => {
 
   it('flag each kind of violation', () => {
     const good = { budget: 0.2, groups: Float64Array.from([0]), bounds: Float64Array.from([0.4, 0, 0]) };
-    // Stationarity: wrong budget multiplier.
-    expect(kktReport(problem, x, { ...good, budget: 0.25 }).stationarity).toBeCloseTo(0.05 / 0.6, 12);
+    // Stationarity: wrong budget multiplier; G = max(‖c‖∞ = 0, ‖Hx‖∞ = 0.6, max H_ii·W = 1·1) = 1.
+    expect(kktReport(problem, x, { ...good, budget: 0.25 }).stationarity).toBeCloseTo(0.05, 12);
     // Primal: budget broken.
     expect(kktReport(problem, Float64Array.from([0.6, 0.2, 0.3]), good).primalFeasibility).toBeGreaterThan(0.09);
     // Dual sign: a negative multiplier on a lower bound shows as a complementarity or sign breach.
@@ -41,6 +41,28 @@ describe('KKT residuals', () => {
     // Complementarity: a multiplier on an inactive bound (x₂ = 0.2 > 0).
     const comp = kktReport(problem, x, { budget: 0.2, groups: Float64Array.from([0]), bounds: Float64Array.from([0.4, 0.1, 0]) });
     expect(comp.complementarity).toBeGreaterThan(0.01);
+  });
+
+  it('judge a riskless optimum (Hx = 0, c = 0) on the scale of H, not of the rounding noise in Hx', () => {
+    // minimise ½xᵀHx, H = diag(0.04, 0.09, 0): all in the riskless third asset, Hx = 0, every
+    // multiplier 0 (Nocedal & Wright, Theorem 12.1 by hand). A point off by one rounding unit of
+    // the weights (2.2e-17 in the risky assets) is as correct as floating point allows: its
+    // gradient residual (≈ 1e-18) is tiny against what H can produce (0.09 per unit weight) —
+    // although it is all of ‖Hx‖∞.
+    const riskless: QpProblem = {
+      hessian: { kind: 'dense', n: 3, matrix: Float64Array.from([0.04, 0, 0, 0, 0.09, 0, 0, 0, 0]) },
+      linear: new Float64Array(3),
+      constraints: { n: 3, lower: new Float64Array(3), upper: new Float64Array(3).fill(Infinity), budget: 1, groups: [] },
+    };
+    const zero = { budget: 0, groups: new Float64Array(0), bounds: new Float64Array(3) };
+    expect(kktReport(riskless, Float64Array.from([0, 0, 1]), zero).max).toBe(0);
+    const rounded = Float64Array.from([2 ** -52 / 10, 2 ** -52 / 10, 1 - 2 ** -52 / 5]);
+    const report = kktReport(riskless, rounded, zero);
+    expect(report.gradientScale).toBe(0.09);
+    expect(report.max).toBeLessThan(1e-16);
+    // A genuinely wrong point still fails: 1 % in the risky second asset leaves a gradient of
+    // 0.0009 that no multiplier of an inactive bound may absorb.
+    expect(kktReport(riskless, Float64Array.from([0, 0.01, 0.99]), zero).stationarity).toBeCloseTo(0.01, 12);
   });
 
   it('estimateMultipliers recovers a valid set from x alone', () => {

@@ -63,15 +63,97 @@ describe('ChannelVarianceAccumulator', () => {
       covarianceOnly.record(b, 'mean-only', constant);
       covarianceOnly.record(b, 'covariance-only', rowOf(b, 'cov', 0.1, row));
     }
-    const one = meanOnly.summarize();
+    const one = meanOnly.summarize({ covarianceChannelFixed: true });
     expect(one.overall).toBe(1);
     expect(Array.from(one.perAsset)).toEqual([1, 1, 1, 1]);
     expect(Array.from(one.covarianceChannelVariance)).toEqual([0, 0, 0, 0]);
-    expect(one.overallStdErr).toBe(0);
-    const zero = covarianceOnly.summarize();
+    expect([one.overallStdErr, one.overallErrorMethod]).toEqual([0, 'exact']);
+    // A method that ignores the means: the share is 0 by construction, its error exactly 0.
+    const zero = covarianceOnly.summarize({ meanChannelFixed: true });
     expect(zero.overall).toBe(0);
     expect(Array.from(zero.perAsset)).toEqual([0, 0, 0, 0]);
-    expect(zero.overallStdErr).toBe(0);
+    expect([zero.overallStdErr, zero.overallErrorMethod]).toEqual([0, 'exact']);
+    // The same draws from a channel that could have moved but did not: the share is 1 (or 0) as
+    // far as these draws show, but a rare move none of them made would change it, so no error is claimed.
+    const unseen = meanOnly.summarize();
+    expect(unseen.overall).toBe(1);
+    expect(unseen.overallErrorMethod).toBe('not-estimable');
+    expect(unseen.overallStdErr).toBeNaN();
+    expect(unseen.covarianceChannelEffectiveGroups).toBe(0);
+    // Rule of three: no move in 200 draws ⇒ rate < 3/200, so ≥ 200·5/3 draws for about 5 moves.
+    expect(unseen.drawsForEstimableError).toBe(334);
+    expect(covarianceOnly.summarize().overallErrorMethod).toBe('not-estimable');
+  });
+
+  it('a channel that moves in one rare draw: not estimable; moves spread over the groups: jackknife', () => {
+    // Kish (1965, Survey Sampling §11.7): effective number (Σ T_k)²/Σ T_k² is 1 when one group
+    // carries all the spread and m when all m groups carry the same.
+    const B = 200;
+    const row = new Float64Array(N);
+    const corner = Float64Array.of(0, 1, 0, 0);
+    const moved = Float64Array.of(0.1, 0.9, 0, 0);
+    const rare = new ChannelVarianceAccumulator(B, N);
+    const spread = new ChannelVarianceAccumulator(B, N);
+    for (let b = 0; b < B; b++) {
+      rare.record(b, 'mean-only', rowOf(b, 'mean', 0.1, row));
+      spread.record(b, 'mean-only', rowOf(b, 'mean', 0.1, row));
+      rare.record(b, 'covariance-only', b === 57 ? moved : corner);
+      // One move in every group of 10 draws (20 groups).
+      spread.record(b, 'covariance-only', b % 10 === 3 ? moved : corner);
+    }
+    const one = rare.summarize();
+    // By hand, per moved asset with deviation d: the moved draw's group holds 0.9d² within and
+    // 10(d/10 − d/200)² = 0.09025d² between; each of the other 19 groups 10(d/200)² = 0.00025d².
+    // (0.995)²/(0.99025² + 19·0.00025²) = 1.0096153…
+    expect(one.covarianceChannelEffectiveGroups).toBeCloseTo(0.990025 / (0.99025 ** 2 + 19 * 0.00025 ** 2), 9);
+    expect(one.meanChannelEffectiveGroups).toBeGreaterThan(15);
+    expect(one.overall).toBeLessThan(1);
+    expect(one.overallErrorMethod).toBe('not-estimable');
+    expect(one.overallStdErr).toBeNaN();
+    // One effective group in 200 draws: about 200·5/1 draws give five.
+    expect(one.drawsForEstimableError).toBeGreaterThanOrEqual(990);
+    expect(one.drawsForEstimableError).toBeLessThanOrEqual(1000);
+    const many = spread.summarize();
+    expect(many.covarianceChannelEffectiveGroups).toBeCloseTo(20, 6);
+    expect(many.overallErrorMethod).toBe('jackknife');
+    expect(many.overallStdErr).toBeGreaterThan(0);
+  });
+
+  it('rare moves (Poisson, λ per run): null when a run cannot show them, calibrated when it can', () => {
+    // Across reruns the share's sd over the mean reported error should be about 1 (common
+    // practice for judging a standard error). Without the rule a run seeing λ ≈ 1 move reports
+    // on average λ·δ against a true spread √λ·δ (ratio 1/√λ); with it such runs report null.
+    const B = 200;
+    const K = 200;
+    const row = new Float64Array(N);
+    const run = (lambda: number, seed: number): { share: number; stdErr: number } => {
+      const random = seedrandom(`rare-${lambda}-${seed}`);
+      const acc = new ChannelVarianceAccumulator(B, N);
+      for (let b = 0; b < B; b++) {
+        for (let i = 0; i < N; i++) row[i] = 0.25 + 0.3 * (random() - 0.5);
+        acc.record(b, 'mean-only', row);
+        row.fill(0);
+        row[1] = 1;
+        if (random() < lambda / B) {
+          const d = 0.05 + 0.3 * random();
+          row[0] = d;
+          row[1] = 1 - d;
+        }
+        acc.record(b, 'covariance-only', row);
+      }
+      const s = acc.summarize();
+      return { share: s.overall, stdErr: s.overallStdErr };
+    };
+    const rare = Array.from({ length: K }, (_, s) => run(1, s));
+    expect(rare.filter((r) => Number.isNaN(r.stdErr)).length).toBeGreaterThanOrEqual(K - 2);
+    const frequent = Array.from({ length: K }, (_, s) => run(50, s));
+    expect(frequent.every((r) => Number.isFinite(r.stdErr))).toBe(true);
+    const mean = frequent.reduce((a, r) => a + r.share, 0) / K;
+    const spread = Math.sqrt(frequent.reduce((a, r) => a + (r.share - mean) ** 2, 0) / (K - 1));
+    const meanError = frequent.reduce((a, r) => a + r.stdErr, 0) / K;
+    // The ratio's own noise with K = 200 is about 1/√(2(K−1)) = 5 %.
+    expect(spread / meanError).toBeGreaterThan(0.8);
+    expect(spread / meanError).toBeLessThan(1.2);
   });
 
   it('both channels constant (e.g. equal weight): share 0; tiny B: conservative error 0.5', () => {
@@ -81,6 +163,7 @@ describe('ChannelVarianceAccumulator', () => {
       flat.record(b, 'covariance-only', [0.5, 0.5]);
     }
     expect(flat.summarize().overall).toBe(0);
+    expect(flat.summarize().overallStdErr).toBe(0);
     const tiny = new ChannelVarianceAccumulator(5, 1);
     for (let b = 0; b < 5; b++) {
       tiny.record(b, 'mean-only', [b * 0.1]);
