@@ -13,11 +13,13 @@
  * `min` rules, and `maxIncrease` rules against a baseline proposal on common random numbers; and
  * the power: how often a `max` (and `maxIncrease`) rule one step below the truth fails — one asset
  * (1/N) for the outside-band share, 20 % of the true value for the other figures.
- * The truth: for smooth figures the mean of long runs (L seeds × 5000 draws) pooled with the K runs
- * at that draw count, weighted by draws. For the outside-band share and the max weight sd, whose
- * expectation at B draws is not the value a rule can hold exactly, the limit figure: the share (or
- * the largest per-asset sd) of the L long runs' draws pooled into one sample; the script prints
- * whether that pooled sample classifies every asset at 99 % (the limit share is then known).
+ * The truth: for the mean turnover and the mean-driven share the mean of long runs (L seeds × 5000
+ * draws) pooled with the K runs at that draw count, weighted by draws. For the figures whose
+ * expectation at B draws is not the value a rule is about — the outside-band share, the max weight
+ * sd, the median turnover and the volatility band width (percentiles: a sample percentile is
+ * biased at finite B, strongly so at atoms and gaps) — the limit figure: the share, the largest
+ * per-asset sd, the median or p95 − p05 of the L long runs' draws pooled into one sample; the
+ * script prints whether that pooled sample classifies every asset at 99 % (the limit share is then known).
  *
  * Usage: npm run calibrate -- [--case d1|demo] [--seeds K] [--draws 200,500,2000] [--long-seeds L]
  * The cases: test/fixtures/cases/D1-mc-error-history.json (4 assets, 120 months, seven methods;
@@ -36,6 +38,7 @@ import { figureBoundsOf, type FigureBound, type FigureBoundSource } from '../src
 import { judge } from '../src/stress/verdict.js';
 import { PolicySchema, type PolicyRule } from '../src/schema/proposal.js';
 import { stridedMoments } from '../src/statistics/batch-means.js';
+import { quantileSorted } from '../src/statistics/quantiles.js';
 import { BAND_EDGE_TOLERANCE, outsideBandCounts, outsideBandShareBound, outsideBandShareOver } from '../src/statistics/stability.js';
 
 const GATE_METRICS = ['turnover-from-proposal.p50', 'turnover-from-proposal.mean', 'outside-band-share', 'volatility-band-width', 'mean-driven-share', 'max-weight-sd'] as const;
@@ -180,7 +183,8 @@ function valid(input: ProposalInput): { proposal: Proposal; warnings: Warning[] 
 const CONFIDENCE = 0.95;
 /** The levels the gate asks bounds at: α for max and min rules, α/2 per side for maxIncrease. */
 const ALPHA = 1 - CONFIDENCE;
-const SIMULTANEOUS = ['outside-band-share', 'max-weight-sd'] as const;
+/** The figures whose gate bound comes from the run's per-draw data (gate-bounds.ts). */
+const DRAW_BOUNDED = ['outside-band-share', 'max-weight-sd', 'turnover-from-proposal.p50', 'volatility-band-width'] as const;
 
 /**
  * The bounds the gate will ask of a run's per-draw data (proposal method, both sides, α and α/2),
@@ -189,7 +193,7 @@ const SIMULTANEOUS = ['outside-band-share', 'max-weight-sd'] as const;
 function memoBounds(run: StressRun): FigureBoundSource {
   const source = figureBoundsOf(run);
   const table = new Map<string, FigureBound | undefined>();
-  for (const metric of SIMULTANEOUS) for (const side of ['lower', 'upper'] as const) for (const alpha of [ALPHA, ALPHA / 2]) table.set(`${metric}|${side}|${alpha}`, source(metric, 0, side, alpha));
+  for (const metric of DRAW_BOUNDED) for (const side of ['lower', 'upper'] as const) for (const alpha of [ALPHA, ALPHA / 2]) table.set(`${metric}|${side}|${alpha}`, source(metric, 0, side, alpha));
   return (metric, k, side, alpha) => {
     const key = `${metric}|${side}|${alpha}`;
     if (k !== 0 || !table.has(key)) throw new Error(`calibration: bound ${key} for method ${k} was not kept`);
@@ -206,8 +210,22 @@ interface GateInput {
   readonly baselineBounds: FigureBoundSource;
 }
 
-/** The limit figures of the two simultaneous metrics from the pooled draws of long runs (proposal method). */
-function limitFigures(runs: StressRun[]): { outsideBandShare: number; maxWeightSd: number; classified: boolean; pooledDraws: number } {
+/** Type-7 quantiles of one scalar accumulator's draws pooled over runs (failed draws skipped). */
+function pooledQuantiles(runs: StressRun[], column: (run: StressRun) => Float64Array, probabilities: number[]): number[] {
+  const values = runs.flatMap((r) => Array.from(column(r).subarray(0, r.plan.draws))).filter(Number.isFinite);
+  const sorted = Float64Array.from(values).sort();
+  return probabilities.map((q) => quantileSorted(sorted, sorted.length, q));
+}
+
+/**
+ * The limit figures (their values with infinitely many draws) from the pooled draws of long runs
+ * (proposal method): the two simultaneous metrics, and the percentile figures — the median
+ * turnover and the volatility band width p95 − p05 — which a user's rule is about. The mean of a
+ * sample percentile over runs of B draws is not that value: the turnover piles up at corner
+ * portfolios and its sample median at 200 draws is biased towards a large atom below the true
+ * median (demo: mean 0.3401 against the limit 0.3425).
+ */
+function limitFigures(runs: StressRun[]): { outsideBandShare: number; maxWeightSd: number; turnoverP50: number; bandWidth: number; classified: boolean; pooledDraws: number } {
   const n = runs[0].plan.problem.n;
   const total = runs.reduce((a, r) => a + r.plan.draws, 0);
   const pooled = new Float64Array(total * n);
@@ -225,7 +243,9 @@ function limitFigures(runs: StressRun[]): { outsideBandShare: number; maxWeightS
   const low = outsideBandShareBound(counts, 'lower', 0.01);
   const high = outsideBandShareBound(counts, 'upper', 0.01);
   const classified = low !== undefined && high !== undefined && low.outside === high.outside && low.bound === outsideBandShare;
-  return { outsideBandShare, maxWeightSd, classified, pooledDraws: total };
+  const [turnoverP50] = pooledQuantiles(runs, (r) => r.acc.methods[0].turnoverFromProposal.slots(), [0.5]);
+  const [p05, p95] = pooledQuantiles(runs, (r) => r.acc.proposalVolatility.slots(), [0.05, 0.95]);
+  return { outsideBandShare, maxWeightSd, turnoverP50, bandWidth: p95 - p05, classified, pooledDraws: total };
 }
 
 /** One step below a truth: one asset for the outside-band share, 20 % of the figure otherwise. */
@@ -279,7 +299,8 @@ async function main(): Promise<void> {
   console.log(
     `limit figures (${limitA.pooledDraws} pooled draws): outside-band share ${limitA.outsideBandShare.toFixed(4)} (baseline ${limitB.outsideBandShare.toFixed(4)}; ` +
       `every asset classified at 99 %: ${limitA.classified && limitB.classified ? 'yes' : 'NO — the limit share is uncertain'}), ` +
-      `max weight sd ${limitA.maxWeightSd.toFixed(5)} (baseline ${limitB.maxWeightSd.toFixed(5)})`,
+      `max weight sd ${limitA.maxWeightSd.toFixed(5)} (baseline ${limitB.maxWeightSd.toFixed(5)}), ` +
+      `turnover p50 ${limitA.turnoverP50.toFixed(5)} (baseline ${limitB.turnoverP50.toFixed(5)}), volatility band width ${limitA.bandWidth.toFixed(5)} (baseline ${limitB.bandWidth.toFixed(5)})`,
   );
   console.log('ratio = sd of the figure across seeds ÷ mean reported stdErr (1.0 honest; goal 0.8–1.2)');
   for (const draws of drawCounts) {
@@ -305,9 +326,9 @@ async function main(): Promise<void> {
       }
       inputs.push({ candidate: a.report, baseline: b.report, paired: pairedErrors, candidateBounds: memoBounds(a.run), baselineBounds: memoBounds(b.run) });
     }
-    // The truth of smooth figures: the draw-weighted mean of the long runs and of these K runs
-    // (the long runs alone would carry an error of about √(draws / (L·5000)) stdErr into every
-    // comparison). The simultaneous figures: their limit values.
+    // The truth of the mean turnover and the mean-driven share: the draw-weighted mean of the long
+    // runs and of these K runs (the long runs alone would carry an error of about
+    // √(draws / (L·5000)) stdErr into every comparison). The other figures: their limit values.
     const weightLong = longSeeds * 5000;
     const weightHere = K * draws;
     const truthAt = new Map<GateMetric, { value: number; diff: number }>();
@@ -318,6 +339,8 @@ async function main(): Promise<void> {
       const pooledDiff = ((truthDiff.get(metric) as number) * weightLong + mean(diffs.map((v) => v.value)) * weightHere) / (weightLong + weightHere);
       if (metric === 'outside-band-share') truthAt.set(metric, { value: limitA.outsideBandShare, diff: limitA.outsideBandShare - limitB.outsideBandShare });
       else if (metric === 'max-weight-sd') truthAt.set(metric, { value: limitA.maxWeightSd, diff: limitA.maxWeightSd - limitB.maxWeightSd });
+      else if (metric === 'turnover-from-proposal.p50') truthAt.set(metric, { value: limitA.turnoverP50, diff: limitA.turnoverP50 - limitB.turnoverP50 });
+      else if (metric === 'volatility-band-width') truthAt.set(metric, { value: limitA.bandWidth, diff: limitA.bandWidth - limitB.bandWidth });
       else truthAt.set(metric, { value: pooledValue, diff: pooledDiff });
     }
     // The gate itself on rules at (and one step below) the truth.

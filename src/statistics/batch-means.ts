@@ -56,7 +56,8 @@ import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
  * assets confidently outside / not confidently inside their band by binomial quantile tests on the
  * draws, Holm-adjusted over the assets (stability.ts), and for the max weight sd (the largest of
  * nearly tied sds is biased upward) max_i(s_i ∓ z·se_i) with Bonferroni for the lower bound
- * (max-sd-bound.ts).
+ * (max-sd-bound.ts), and for the median turnover (atoms at corner portfolios) and the volatility
+ * band width (biased low at few draws) distribution-free order-statistic bounds (quantile-bound.ts).
  */
 export const MONTE_CARLO_ERROR_DESCRIPTION =
   'Monte Carlo standard errors; the draws are independent, and every error is a function of the per-draw results only ' +
@@ -80,7 +81,12 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'Holm-adjusted over the assets; lower bound = assets confidently outside / assets, upper bound = assets not confidently inside / assets. ' +
   'Max weight sd (the largest of several nearly tied sds is biased upward): lower bound max_i(sd_i - z(alpha/m)*se_i) over the m assets ' +
   'with a positive sd (Bonferroni), upper bound max_i(sd_i + z*se_i). For maxIncrease of these two: lower bound of the candidate minus ' +
-  'upper bound of the baseline, each at alpha/2.';
+  'upper bound of the baseline, each at alpha/2. Median turnover (max and min rules; it piles up at corner portfolios, so its sample median ' +
+  'jumps between clusters): the distribution-free order-statistic bound, the k-th smallest draw with k the smallest index such that ' +
+  'P(Binomial(n, 0.5) <= k-1) >= confidence (upper bound), or the j-th with j the largest such that P(Binomial(n, 0.5) >= j) >= confidence (lower bound); ' +
+  'maxIncrease of the median turnover with both runs at hand: lower bound of the candidate minus upper bound of the baseline, each at alpha/2. ' +
+  'Volatility band width (max and min rules; its sample value is biased low at few draws): the same order-statistic bounds of the 95th and ' +
+  '5th percentiles, each at alpha/2 (upper bound = upper p95 - lower p05, lower bound = lower p95 - upper p05).';
 
 /** Storage groups of the channel accumulator: at most this many (jackknife groups). */
 export const MAX_BATCHES = 30;

@@ -4,6 +4,7 @@ import { pairedStdErr, type StressRun } from '../../src/stress/paired.js';
 import { stressRun } from '../../src/stress/run.js';
 import { figureBoundsOf } from '../../src/stress/gate-bounds.js';
 import { stridedMoments } from '../../src/statistics/batch-means.js';
+import { quantileSorted } from '../../src/statistics/quantiles.js';
 import { BAND_EDGE_TOLERANCE, outsideBandCounts, outsideBandShareBound, outsideBandShareOver } from '../../src/statistics/stability.js';
 import { historyProposal } from '../helpers/proposals.js';
 
@@ -69,7 +70,7 @@ describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reporte
     }
   });
 
-  it('the gate bounds of the outside-band share and the max weight sd keep their guarantee: a max rule at the limit value rarely fails', async () => {
+  it('the gate bounds of the outside-band share, the max weight sd, the median turnover and the band width keep their guarantee: a rule at the limit value rarely fails', async () => {
     // The limit figures from 2 × 5000 draws pooled; then K seeds at 200 draws, and a max rule at the
     // limit value must fail in at most 4 of 40 (the guarantee is ≤ 5 %, i.e. ≤ 2 expected;
     // value − z·se failed such rules 27.5 % and 10 % of the time on the D1 case). In this case
@@ -91,6 +92,16 @@ describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reporte
     expect(limitShare).toBeLessThanOrEqual(pooledShare);
     let limitSd = 0;
     for (let i = 0; i < n; i++) limitSd = Math.max(limitSd, stridedMoments(pooled, i, n, total).sd);
+    // The limit median turnover: the median of the pooled draws.
+    const turnovers = Float64Array.from(long.flatMap((r) => Array.from(r.acc.methods[0].turnoverFromProposal.slots()))).filter(Number.isFinite).sort();
+    const limitMedian = quantileSorted(turnovers, turnovers.length, 0.5);
+    let medianMaxFails = 0;
+    let medianMinFails = 0;
+    // The limit volatility band width: p95 − p05 of the pooled draws.
+    const vols = Float64Array.from(long.flatMap((r) => Array.from(r.acc.proposalVolatility.slots()))).filter(Number.isFinite).sort();
+    const limitWidth = quantileSorted(vols, vols.length, 0.95) - quantileSorted(vols, vols.length, 0.05);
+    let widthMaxFails = 0;
+    let widthMinFails = 0;
     let shareFails = 0;
     let sdFails = 0;
     let sdPower = 0;
@@ -103,11 +114,27 @@ describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reporte
       if (share.bound > limitShare) shareFails++;
       if (sd.bound > limitSd) sdFails++;
       if (sd.bound > 0.8 * limitSd) sdPower++;
+      const medianLow = bounds('turnover-from-proposal.p50', 0, 'lower', 0.05);
+      const medianHigh = bounds('turnover-from-proposal.p50', 0, 'upper', 0.05);
+      if (!medianLow || !medianHigh) throw new Error('median bounds expected');
+      if (medianLow.bound > limitMedian) medianMaxFails++;
+      if (medianHigh.bound < limitMedian) medianMinFails++;
+      const widthLow = bounds('volatility-band-width', 0, 'lower', 0.05);
+      const widthHigh = bounds('volatility-band-width', 0, 'upper', 0.05);
+      if (!widthLow || !widthHigh) throw new Error('band width bounds expected');
+      if (widthLow.bound > limitWidth) widthMaxFails++;
+      if (widthHigh.bound < limitWidth) widthMinFails++;
     }
     console.log(
       `gate bounds (${K} seeds, ${DRAWS} draws): share ${pooledShare} in the pooled draws, ≥ ${limitShare} at 99 %, false fails ${shareFails}; ` +
-        `limit max sd ${limitSd.toFixed(4)}, false fails ${sdFails}, power at 80 % ${sdPower}`,
+        `limit max sd ${limitSd.toFixed(4)}, false fails ${sdFails}, power at 80 % ${sdPower}; ` +
+        `limit median turnover ${limitMedian.toFixed(4)}, false fails max ${medianMaxFails}, min ${medianMinFails}; ` +
+        `limit band width ${limitWidth.toFixed(4)}, false fails max ${widthMaxFails}, min ${widthMinFails}`,
     );
+    expect(widthMaxFails).toBeLessThanOrEqual(4);
+    expect(widthMinFails).toBeLessThanOrEqual(4);
+    expect(medianMaxFails).toBeLessThanOrEqual(4);
+    expect(medianMinFails).toBeLessThanOrEqual(4);
     expect(shareFails).toBeLessThanOrEqual(4);
     expect(sdFails).toBeLessThanOrEqual(4);
     expect(sdPower).toBeGreaterThan(K / 2);

@@ -118,6 +118,58 @@ describe('judge: the outside-band share and the max weight sd by simultaneous bo
     expect(verdict.rules[0].message).toMatch(/for all assets at once, the largest weight sd is at least/);
   });
 
+  it('bounds the median turnover by order statistics of the draws: the 88th and 113th of 200 at 95 % (min and max rules)', async () => {
+    const v = proposal();
+    const { report: r, run } = await stressRun(v.proposal, v.warnings, { draws: 200 });
+    const sorted = Float64Array.from(run.acc.methods[0].turnoverFromProposal.slots()).sort();
+    // All 200 draws succeed here. scipy.stats.binom.ppf(0.95, 200, 0.5) = 112, so the upper bound is
+    // X(113); P(Bin(200, ½) ≤ 87) ≤ 0.05 < P(≤ 88), so the lower bound is X(88) (1-based).
+    expect(sorted.every(Number.isFinite)).toBe(true);
+    const p50 = r.methods[0].turnoverFromProposal.p50;
+    const verdict = judge(
+      r,
+      PolicySchema.parse({ confidence: 0.95, rules: [{ metric: 'turnover-from-proposal.p50', max: p50 }, { metric: 'turnover-from-proposal.p50', min: p50 }] }),
+      undefined,
+      undefined,
+      { candidate: figureBoundsOf(run) },
+    );
+    expect(verdict.rules[0].bound).toBe(sorted[87]);
+    expect(verdict.rules[1].bound).toBe(sorted[112]);
+    expect(verdict.pass).toBe(true);
+    expect(verdict.rules[0].message).toMatch(/at least .* \(an order statistic of the draws\)/);
+    // Without the per-draw data (a saved report) the bound is value − z·se.
+    const saved = judge(r, PolicySchema.parse({ confidence: 0.95, rules: [{ metric: 'turnover-from-proposal.p50', max: p50 }] }));
+    expect(saved.rules[0].bound).toBeCloseTo(p50 - normalQuantile(0.95) * (r.methods[0].turnoverFromProposal.p50StdErr as number), 14);
+    expect(saved.rules[0].message).toMatch(/saved report/);
+  });
+
+  it('bounds the volatility band width by order statistics of p95 and p05 at α/2 each; median turnover maxIncrease by both runs at α/2', async () => {
+    const v = proposal();
+    const { report: r, run } = await stressRun(v.proposal, v.warnings, { draws: 200 });
+    const vol = Float64Array.from(run.acc.proposalVolatility.slots()).sort();
+    expect(vol.every(Number.isFinite)).toBe(true);
+    // At α/2 = 0.025 (scipy.stats.binom, n = 200): p95 upper X(197) (ppf(0.975, 200, 0.95) = 196),
+    // lower X(184) (P(Bin ≤ 183) ≤ 0.025 < P(Bin ≤ 184)); p05 upper X(17), lower X(4).
+    const width = r.proposal.volatilityBandWidth.value;
+    const verdict = judge(
+      r,
+      PolicySchema.parse({ confidence: 0.95, rules: [{ metric: 'volatility-band-width', max: width }, { metric: 'volatility-band-width', min: width }] }),
+      undefined,
+      undefined,
+      { candidate: figureBoundsOf(run) },
+    );
+    expect(verdict.rules[0].bound).toBe(vol[183] - vol[16]);
+    expect(verdict.rules[1].bound).toBe(vol[196] - vol[3]);
+    expect(verdict.pass).toBe(true);
+    // maxIncrease of the median turnover with both runs' draws: candidate's lower bound minus the baseline's upper, each at α/2.
+    const base = await stressRun(v.proposal, v.warnings, { draws: 200, seed: 'another' });
+    const candidateBounds = figureBoundsOf(run);
+    const baselineBounds = figureBoundsOf(base.run);
+    const increase = judge(r, PolicySchema.parse({ rules: [{ metric: 'turnover-from-proposal.p50', maxIncrease: 0 }] }), base.report, () => 0.001, { candidate: candidateBounds, baseline: baselineBounds });
+    const expected = (candidateBounds('turnover-from-proposal.p50', 0, 'lower', 0.025)?.bound as number) - (baselineBounds('turnover-from-proposal.p50', 0, 'upper', 0.025)?.bound as number);
+    expect(increase.rules[0].bound).toBe(expected);
+  });
+
   it('judges on the value alone, with a note, when the bound is not estimable; says so when only a saved report is at hand', async () => {
     const r = await report();
     const policy = PolicySchema.parse({ rules: [{ metric: 'outside-band-share', max: 0.1 }] });
