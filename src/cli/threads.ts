@@ -14,15 +14,16 @@ export const MAX_DEFAULT_THREADS = 8;
 
 /**
  * Below this estimated work the default splits nothing: starting a thread (module load, JIT
- * warm-up of a cold thread) costs more than it saves. The work model prices worst cases (src/cost), so typical requests run
- * at 0.3–1 ns per counted unit: the demo at 500 draws is priced 1.9e9 units and takes 0.65 s in
- * one thread, and was slower with 2 threads (1.8 s wall against 1.1 s, measured on the 2-core
- * development machine). 1e10 units is a few seconds of single-thread CPU, where two threads pay
- * off. From TypeScript sources every thread also starts tsx and compiles the core (seconds), so
- * there the default waits for ten times as much. An explicit --threads N always splits.
+ * warm-up of a cold thread: about 0.4 s wall on the 2-core development machine) costs more than it
+ * saves. Measured with `npm run bench:scale` (fresh CLI processes on the built package, best of 3):
+ * the 30-asset, six-method, 1500-draw history, priced 7.7e9 units, took 3.18 s with --threads 1
+ * and 2.60 s with --threads 2; the demo at 500 draws, priced 1.4e9, is faster on one thread. So the
+ * default splits from 5e9 units (a couple of seconds of one core). From TypeScript sources every
+ * thread also starts tsx and compiles the core (seconds), so there the default waits for ten
+ * times as much. An explicit --threads N always splits.
  */
-export const AUTO_THREADS_MIN_WORK = 1e10;
-export const AUTO_THREADS_MIN_WORK_FROM_SOURCES = 1e11;
+export const AUTO_THREADS_MIN_WORK = 5e9;
+export const AUTO_THREADS_MIN_WORK_FROM_SOURCES = 5e10;
 
 function automaticMinWork(): number {
   return import.meta.url.endsWith('.ts') ? AUTO_THREADS_MIN_WORK_FROM_SOURCES : AUTO_THREADS_MIN_WORK;

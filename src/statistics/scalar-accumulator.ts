@@ -61,6 +61,17 @@ export interface SlotRange {
 }
 
 /** Throws unless 0 ≤ start < end ≤ draws are integers; returns the range (whole request when omitted). */
+/**
+ * The slot of draw `drawIndex` in an accumulator holding draws firstDraw .. firstDraw + slotCount − 1
+ * of a request of `draws` draws (shared by the scalar and weight accumulators).
+ */
+export function slotOfDraw(drawIndex: number, draws: number, firstDraw: number, slotCount: number): number {
+  checkDrawIndex(drawIndex, draws);
+  const slot = drawIndex - firstDraw;
+  if (slot < 0 || slot >= slotCount) throw new RangeError(`draw index ${drawIndex} outside this accumulator's range ${firstDraw}..${firstDraw + slotCount - 1}`);
+  return slot;
+}
+
 export function checkSlotRange(draws: number, range: SlotRange | undefined): SlotRange {
   if (!range) return { start: 0, end: draws };
   const { start, end } = range;
@@ -150,10 +161,7 @@ export class ScalarAccumulator {
   }
 
   private slotOf(drawIndex: number): number {
-    checkDrawIndex(drawIndex, this.draws);
-    const slot = drawIndex - this.firstDraw;
-    if (slot < 0 || slot >= this.slotCount) throw new RangeError(`draw index ${drawIndex} outside this accumulator's range ${this.firstDraw}..${this.firstDraw + this.slotCount - 1}`);
-    return slot;
+    return slotOfDraw(drawIndex, this.draws, this.firstDraw, this.slotCount);
   }
 
   /** Stores draw `drawIndex`'s value; NaN or ±∞ records a failed draw. Each slot once only. */

@@ -3,8 +3,8 @@ import { midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
 import {
   checkAssetCount,
   checkDrawCount,
-  checkDrawIndex,
   checkSlotRange,
+  slotOfDraw,
   countDraws,
   DRAW_FAILED,
   DRAW_NOT_RECORDED,
@@ -111,10 +111,7 @@ export class WeightAccumulator {
   }
 
   private slotOf(drawIndex: number): number {
-    checkDrawIndex(drawIndex, this.draws);
-    const slot = drawIndex - this.firstDraw;
-    if (slot < 0 || slot >= this.slotCount) throw new RangeError(`draw index ${drawIndex} outside this accumulator's range ${this.firstDraw}..${this.firstDraw + this.slotCount - 1}`);
-    return slot;
+    return slotOfDraw(drawIndex, this.draws, this.firstDraw, this.slotCount);
   }
 
   /**
