@@ -23,15 +23,25 @@ export const EXACT_EIGENVALUE_MAX_N = 300;
 /** Power-iteration steps for the largest eigenvalue in the PSD test (src/schema/matrix-checks.ts). */
 export const POWER_ITERATIONS = 30;
 /**
- * Cost factor of group limits in a cold active-set solve (a base optimum: phase one, then the
- * working set built from nothing): about (N + G) iterations, each testing every group row (M
- * memberships) and updating up to min(G, N) explicit rows against N free variables. Fitted on the
- * slowest overlapping-group shape measured (optimize, N = 300, 200 groups; DEVELOPERS.md).
+ * Cost factor of group limits in an active-set solve: about (N + G) iterations, each testing every
+ * group row (M memberships) and updating up to min(G, N) explicit rows against N free variables.
+ * First fitted on the slowest overlapping-group shape (optimize, N = 300, 200 groups) and kept as
+ * the base of the warm term below, which was fitted against it.
  */
 export const GROUP_UNITS_FACTOR = 170;
 /**
+ * The same for a cold solve (a base optimum: phase one, then the working set built from nothing).
+ * Re-measured 2026-12-02 (`npm run bench:limits`): the optimize with N = 300 and 200 overlapping
+ * groups took 436 s of CPU at 6.98e9 units (62.5 ns/unit) while the dense N = 650 optimize ran at
+ * 9.0 ns/unit on the machine that day (3.05 when the worst rate of 5.07 was fitted). Scaled to
+ * that machine speed the group solve needs ~148 s, about 4.2× what the factor 170 charged, so a
+ * cold solve pays 750: that shape is now priced 2.96e10 units and refused (413) instead of
+ * running for minutes, and a cold group solve stays near the worst rate of the other shapes.
+ */
+export const COLD_GROUP_UNITS_FACTOR = 750;
+/**
  * A warm-started solve (every per-draw solve starts from the base optimum's working set, which is
- * feasible for the draw: only H and c move) pays the cold group term times min(1, G / N)^2.
+ * feasible for the draw: only H and c move) pays GROUP_UNITS_FACTOR's term times min(1, G / N)^2.
  * Measured per-draw solves with overlapping groups (noisy parametric draws, `npm run
  * bench:work-model`), as the share of the cold term each needs to stay at the cold worst rate:
  * N = 300 with 50 groups 0.022 (charged 0.028), N = 100 with 50 groups 0.023 (0.25), N = 30 with
@@ -106,8 +116,8 @@ export function estimationUnits(s: RequestShape): number {
 /** The explicit-row part of an active-set solve with group limits (0 without groups). */
 export function groupUnits(s: RequestShape, start: SolveStart = 'cold'): number {
   if (s.groups === 0) return 0;
-  const cold = GROUP_UNITS_FACTOR * (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
-  return start === 'cold' ? cold : cold * Math.min(1, s.groups / s.n) ** WARM_GROUP_EXPONENT;
+  const rows = (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
+  return start === 'cold' ? COLD_GROUP_UNITS_FACTOR * rows : GROUP_UNITS_FACTOR * rows * Math.min(1, s.groups / s.n) ** WARM_GROUP_EXPONENT;
 }
 
 /** One solve of a method on dense or factor inputs, cold (a base optimum) or warm-started (a draw). */
