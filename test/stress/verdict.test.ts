@@ -57,6 +57,25 @@ describe('judge', () => {
     expect(same.pass).toBe(true);
   });
 
+  it('bounds the mean-driven share on the logit scale, inside (0, 1) and wider towards the middle', async () => {
+    const r = await report();
+    const k = r.methods.findIndex((m) => m.meanDrivenShare.overall > 0 && m.meanDrivenShare.overall < 1 && (m.meanDrivenShare.stdErr ?? 0) > 0);
+    expect(k).toBeGreaterThanOrEqual(0);
+    const m = r.methods[k];
+    const v = m.meanDrivenShare.overall;
+    const se = m.meanDrivenShare.stdErr as number;
+    const z = normalQuantile(0.95);
+    const policy = PolicySchema.parse({ rules: [{ metric: 'mean-driven-share', method: m.method.name, max: 0.5 }, { metric: 'mean-driven-share', method: m.method.name, min: 0.5 }] });
+    const verdict = judge(r, policy);
+    // Delta method on logit(v): se_logit = se / (v(1 − v)); bounds expit(logit v ∓ z·se_logit) (Agresti 2013, §1.4; from memory).
+    const expit = (x: number): number => 1 / (1 + Math.exp(-x));
+    const logit = Math.log(v / (1 - v));
+    expect(verdict.rules[0].bound).toBeCloseTo(expit(logit - (z * se) / (v * (1 - v))), 14);
+    expect(verdict.rules[1].bound).toBeCloseTo(expit(logit + (z * se) / (v * (1 - v))), 14);
+    for (const rule of verdict.rules) expect(rule.bound > 0 && rule.bound < 1).toBe(true);
+    expect(verdict.rules[0].message).toMatch(/logit scale/);
+  });
+
   it('reports the bound it judged on: value − z·se for a max rule, value + z·se for a min rule', async () => {
     const r = await report();
     const t = r.methods[0].turnoverFromProposal;
