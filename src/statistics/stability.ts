@@ -68,16 +68,13 @@ export function outsideBandShareReplicates(
   let assets = 0;
   const active: { sorted: Float64Array; order: Int32Array; x: number }[] = [];
   for (let i = 0; i < n; i++) {
-    let count = 0;
-    for (let b = 0; b < draws; b++) if (Number.isFinite(rows[b * n + i])) count++;
-    if (count === 0) continue;
-    if (count < 2) return undefined;
+    const m = sortedColumn(rows, n, i, 0, draws, column);
+    if (m === 0) continue;
+    if (m < 2) return undefined;
     assets++;
-    let m = 0;
-    for (let b = 0; b < draws; b++) if (Number.isFinite(rows[b * n + i])) column[m++] = rows[b * n + i];
-    const sorted = column.subarray(0, m).sort();
+    const sorted = column.subarray(0, m);
     const x = proposal[i];
-    const outside = x < quantileSorted(sorted, m, LOW) - tolerance || x > quantileSorted(sorted, m, HIGH) + tolerance;
+    const outside = outsideOwnBand(sorted, m, x, tolerance);
     if (!nearEdge(sorted, m, x, tolerance)) {
       if (outside) fixedOutside++;
       continue;
@@ -194,20 +191,28 @@ export function outsideBandShareOver(
   let outside = 0;
   let assets = 0;
   for (let i = 0; i < n; i++) {
-    let count = 0;
-    for (let b = from; b < to; b++) {
-      const w = rows[b * n + i];
-      if (Number.isFinite(w)) column[count++] = w;
-    }
+    const count = sortedColumn(rows, n, i, from, to, column);
     if (count === 0) continue;
-    const sorted = column.subarray(0, count).sort();
-    const lo = quantileSorted(sorted, count, LOW);
-    const hi = quantileSorted(sorted, count, HIGH);
     assets++;
-    // A weight exactly on the band edge (e.g. both 0 at a bound) is inside.
-    if (proposal[i] < lo - tolerance || proposal[i] > hi + tolerance) outside++;
+    if (outsideOwnBand(column.subarray(0, count), count, proposal[i], tolerance)) outside++;
   }
   return assets === 0 ? Number.NaN : outside / assets;
+}
+
+/** Asset i's successful weights of draws [from, to), sorted ascending into column[0..count); returns count. */
+function sortedColumn(rows: Float64Array, n: number, i: number, from: number, to: number, column: Float64Array): number {
+  let count = 0;
+  for (let b = from; b < to; b++) {
+    const w = rows[b * n + i];
+    if (Number.isFinite(w)) column[count++] = w;
+  }
+  column.subarray(0, count).sort();
+  return count;
+}
+
+/** Whether x lies outside the p05–p95 band of the sorted weights; a weight on a band edge (e.g. both 0 at a bound) is inside. */
+function outsideOwnBand(sorted: Float64Array, m: number, x: number, tolerance: number): boolean {
+  return x < quantileSorted(sorted, m, LOW) - tolerance || x > quantileSorted(sorted, m, HIGH) + tolerance;
 }
 
 /**
