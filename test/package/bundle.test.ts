@@ -20,26 +20,12 @@ interface Graph {
 }
 
 /** Follows static imports (`import … from "x"`, `export … from "x"`); dynamic import() is not followed. */
-function staticGraph(entry: string): Graph {
-  const graph: Graph = { files: [], bare: new Set(), bytes: 0 };
-  const pending = [entry];
-  while (pending.length > 0) {
-    const file = pending.pop() as string;
-    if (graph.files.includes(file)) continue;
-    graph.files.push(file);
-    const text = readFileSync(file, 'utf8');
-    graph.bytes += text.length;
-    for (const m of text.matchAll(/(?:^|[;}\s])(?:import|export)\s*(?:[\w*{}\s,$]+from\s*)?["']([^"']+)["']/g)) {
-      const spec = m[1];
-      if (spec.startsWith('.')) pending.push(join(dirname(file), spec));
-      else graph.bare.add(spec);
-    }
-  }
-  return graph;
-}
+const STATIC_IMPORT = /(?:^|[;}\s])(?:import|export)\s*(?:[\w*{}\s,$]+from\s*)?["']([^"']+)["']/g;
+/** Every import, dynamic ones included. Module specifiers have no spaces (this skips prose such as `JSON from "wobble stress"` in help texts). */
+const ANY_IMPORT = /(?:from\s*|import\s*\(?\s*)["']([^"'\s]+)["']/g;
 
-/** Every module reachable, dynamic imports included. */
-function fullGraph(entry: string): Graph {
+/** Every module reachable from `entry` through imports matching `pattern` (group 1 = the specifier). */
+function importGraph(entry: string, pattern: RegExp): Graph {
   const graph: Graph = { files: [], bare: new Set(), bytes: 0 };
   const pending = [entry];
   while (pending.length > 0) {
@@ -48,14 +34,15 @@ function fullGraph(entry: string): Graph {
     graph.files.push(file);
     const text = readFileSync(file, 'utf8');
     graph.bytes += text.length;
-    // Module specifiers have no spaces (this skips prose such as `JSON from "wobble stress"` in help texts).
-    for (const m of text.matchAll(/(?:from\s*|import\s*\(?\s*)["']([^"'\s]+)["']/g)) {
+    for (const m of text.matchAll(pattern)) {
       if (m[1].startsWith('.')) pending.push(join(dirname(file), m[1]));
       else graph.bare.add(m[1]);
     }
   }
   return graph;
 }
+const staticGraph = (entry: string): Graph => importGraph(entry, STATIC_IMPORT);
+const fullGraph = (entry: string): Graph => importGraph(entry, ANY_IMPORT);
 
 describe('built bundles', () => {
   it('the client imports no package and no Node module', () => {
