@@ -2,7 +2,7 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
-import { laneChunks, CHUNKS_PER_LANE } from '../scale/chunk-claims.js';
+import { FINEST_CHUNK_PER_LANE, laneChunks } from '../scale/chunk-claims.js';
 import { runLanes, type Lane } from '../scale/lanes.js';
 import { computeRange } from '../scale/range-job.js';
 import type { DrawRange } from '../scale/ranges.js';
@@ -60,6 +60,8 @@ function startRangeThread(entry?: URL): Worker {
  */
 export class RangeThreadPool {
   private readonly idle: Worker[] = [];
+  /** Threads that have finished a job (their code is compiled). */
+  private readonly warm = new WeakSet<Worker>();
 
   /** `entry` overrides the thread's module (e.g. a bundled range-thread for benchmarks). */
   constructor(private readonly entry?: URL) {}
@@ -71,6 +73,11 @@ export class RangeThreadPool {
 
   get idleThreads(): number {
     return this.idle.length;
+  }
+
+  /** Idle threads that have finished a job before (modules loaded and hot code compiled). */
+  get warmIdleThreads(): number {
+    return this.idle.filter((w) => this.warm.has(w)).length;
   }
 
   private spawn(): Worker {
@@ -93,9 +100,10 @@ export class RangeThreadPool {
     return worker;
   }
 
-  /** Returns a thread that finished its range cleanly. */
+  /** Returns a thread that finished its job cleanly (it is warm from now on). */
   release(worker: Worker): void {
     worker.unref();
+    this.warm.add(worker);
     this.idle.push(worker);
   }
 
@@ -185,8 +193,11 @@ export interface ThreadRunnerOptions {
   readonly entry?: URL;
   /** Threads to reuse (kept warm across requests by a long-lived caller). */
   readonly pool?: RangeThreadPool;
-  /** Chunks per thread (default CHUNKS_PER_LANE; 1 splits the draws into one contiguous range per thread, for comparison). */
-  readonly chunksPerThread?: number;
+  /**
+   * Finest chunk as a fraction of a thread's share (1: one contiguous range per thread). Default:
+   * FINEST_CHUNK_PER_LANE when every worker thread needed is warm, else 1 (see threadRunner).
+   */
+  readonly finestChunk?: number;
   readonly signal?: AbortSignal;
 }
 
@@ -214,7 +225,15 @@ export function threadRunner(threads: number, automatic: boolean, options: Threa
       const lanes = Math.min(threads, plan.draws);
       runner.record = { threads: lanes };
       const digest = await inputDigest(proposal);
-      const chunks = laneChunks(plan.draws, lanes, options.chunksPerThread ?? CHUNKS_PER_LANE);
+      // Measured with `npm run bench:scale` (30 assets, 1500 draws, 2 threads on 2 cores): warm
+      // threads finish together on chunks down to 1/32 of a share (1.27 s against 1.39 s with one
+      // range each), but a thread that has not yet compiled its code runs its second and later
+      // chunks much slower (their first draws run as if cold again, a few hundred ms per thread
+      // lost), so in a fresh process one contiguous range per thread is faster (2.40–2.56 s against
+      // 2.72–2.90 s). Cold threads therefore get one range each; they still claim it, so a failed
+      // thread's range is computed again here.
+      const warm = pool.warmIdleThreads >= lanes - 1;
+      const chunks = laneChunks(plan.draws, lanes, options.finestChunk ?? (warm ? FINEST_CHUNK_PER_LANE : 1));
       const job = { proposal, draws: plan.draws, seed: plan.seed, inputDigest: digest, solution: plan.solution };
       const all: Lane[] = [hereLane(plan, digest)];
       for (let k = 1; k < lanes; k++) all.push(workerLane(pool, job));

@@ -40,7 +40,6 @@ import { buildReport } from '../../src/stress/report.js';
 import { stressProposal, type DrawRunner } from '../../src/stress/run.js';
 import { forecastSensitivityTables } from '../../src/stress/forecast-sensitivity.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from '../../src/statistics/stability.js';
-import { ChannelVarianceAccumulator } from '../../src/statistics/channel-variance.js';
 import { demoProposal } from '../helpers/proposals.js';
 import { factorCase, threadsCase } from './scale-problems.js';
 
@@ -191,7 +190,7 @@ function accumulatorBytes(acc: StressAccumulators): number {
   let bytes = slots(acc.proposalRiskShares, acc.proposalRiskShares.assets);
   for (const s of [acc.proposalVolatility, acc.proposalReturn, acc.proposalShortfall]) bytes += slots(s, 1);
   for (const m of acc.methods) {
-    bytes += slots(m.weights, m.weights.assets) + 8 * ChannelVarianceAccumulator.storedValues(m.channels.draws, m.channels.assets) + 2 * m.channels.draws;
+    bytes += slots(m.weights, m.weights.assets) + 8 * m.channels.storedValueCount + 2 * m.channels.drawSpan;
     for (const s of [m.turnoverFromProposal, m.turnoverFromBase, m.volatility, m.certaintyEquivalentLoss]) bytes += slots(s, 1);
   }
   return bytes;
@@ -241,7 +240,7 @@ async function threads(): Promise<void> {
   const rows: [string, number, () => DrawRunner | undefined][] = [
     ['1 (here)', 1, () => undefined],
     ['2 cold', 2, () => threadRunner(2, false, { entry })],
-    ['2 warm, one range each', 2, () => threadRunner(2, false, { entry, pool: warmPool2, chunksPerThread: 1 })],
+    ['2 warm, one range each', 2, () => threadRunner(2, false, { entry, pool: warmPool2, finestChunk: 1 })],
     ['2 warm', 2, () => threadRunner(2, false, { entry, pool: warmPool2 })],
     ['4 warm', 4, () => threadRunner(4, false, { entry, pool: warmPool4 })],
   ];

@@ -35,15 +35,17 @@ describe('wobble --threads', () => {
     const pool = new RangeThreadPool();
     try {
       const runner = threadRunner(3, false, { pool });
-      // Asked for explicitly, the two worker threads start before any request.
+      // Asked for explicitly, the two worker threads start before any request (cold: one range each).
       expect(pool.idleThreads).toBe(2);
+      expect(pool.warmIdleThreads).toBe(0);
       const expected = comparable(await stressProposal(v.proposal, v.warnings));
       for (let round = 0; round < 2; round++) {
         const report = await stressProposal(v.proposal, v.warnings, { drawRunner: runner });
         expect(report.meta.threads).toBe(3);
         expect(comparable(report)).toBe(expected);
-        // Both threads finished cleanly and wait for the next request.
+        // Both threads finished cleanly and wait for the next request, warm (fine chunks next time).
         expect(pool.idleThreads).toBe(2);
+        expect(pool.warmIdleThreads).toBe(2);
       }
     } finally {
       await pool.close();

@@ -1,9 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { laneChunks } from '../../src/scale/chunk-claims.js';
 import { RangeCancelledError, ShardFailedError } from '../../src/scale/errors.js';
 import { runLanes, type Lane, type LaneContext } from '../../src/scale/lanes.js';
 import { computeRange } from '../../src/scale/range-job.js';
-import type { DrawRange } from '../../src/scale/ranges.js';
+import { splitDraws, type DrawRange } from '../../src/scale/ranges.js';
 import { inputDigest } from '../../src/stress/digest.js';
 import { planStress, type StressPlan } from '../../src/stress/engine.js';
 import { stressProposal, type DrawRunner } from '../../src/stress/run.js';
@@ -37,7 +36,7 @@ function lanesRunner(makeLanes: (plan: StressPlan, digest: string) => Lane[], re
         retries.push(chunk.index);
         return compute(plan, digest, chunk);
       };
-      return runLanes(plan, digest, laneChunks(plan.draws, 2, 4), makeLanes(plan, digest), retry, { signal, onProgress });
+      return runLanes(plan, digest, splitDraws(plan.draws, 8), makeLanes(plan, digest), retry, { signal, onProgress });
     },
   };
 }
@@ -108,7 +107,7 @@ describe('lanes claiming chunks', () => {
     const v = valid(proposal);
     const plan = planStress(v.proposal, v.warnings);
     const digest = await inputDigest(v.proposal);
-    const chunks = laneChunks(plan.draws, 2, 4);
+    const chunks = splitDraws(plan.draws, 8);
     const failing: Lane = async (context) => {
       const k = context.claims.claim();
       return { failure: `chunk ${k} hit a bug` };
