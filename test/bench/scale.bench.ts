@@ -27,8 +27,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { Miniflare } from 'miniflare';
-import { RangeThreadPool, threadExecutor, threadRunner } from '../../src/cli/threads.js';
-import { fanOutRunner } from '../../src/scale/runner.js';
+import { RangeThreadPool, threadRunner } from '../../src/cli/threads.js';
 import { PartialMerger } from '../../src/scale/merge.js';
 import { WIRE_FIELDS, type WireCursor } from '../../src/scale/wire-fields.js';
 import { decodePartial, encodePartial } from '../../src/scale/wire.js';
@@ -230,19 +229,10 @@ async function threads(): Promise<void> {
   };
   const amdahl = (n: number): number => 1 / (serialShare + (1 - serialShare) / n);
   console.log(`   serial share of the warm CPU time (validate, plan, digest, report) ${(serialShare * 100).toFixed(1)} %: Amdahl bound ${amdahl(2).toFixed(2)}× with 2 threads, ${amdahl(4).toFixed(2)}× with 4 (before thread start-up and merge)`);
-  {
-    const pool = new RangeThreadPool(entry);
-    const planned = planStress(v.proposal, v.warnings);
-    const request = { proposal: v.proposal, draws, seed: planned.seed, start: 0, end: 1 };
-    const first = await measure(() => threadExecutor(pool)(request, { range: { index: 0, start: 0, end: 1 }, attempt: 1, signal: new AbortController().signal, onProgress: () => undefined, plan: planned, inputDigest: '' }));
-    console.log(`   a fresh thread: start, module load, prepare from the shipped plan, 1 draw, partial back: ${(first.wall * 1000).toFixed(0)} ms wall`);
-    await pool.close();
-  }
-
   // Rows. "1 (here)": this thread, warm after its first run (the reference). "2 cold": a fresh
-  // pool every run (a worker thread that loads and compiles everything, as in a fresh CLI process)
-  // — "re-planning" is the path before plan hand-over (each thread solved the base optima again).
-  // "2 warm" / "4 warm": one pool kept across the runs (a long-lived caller), best of the runs.
+  // pool every run (a worker thread that loads and compiles everything, as in a fresh CLI process).
+  // "2 warm" / "4 warm": one pool kept across the runs (a long-lived caller), best of the runs;
+  // "one range each": one contiguous range per thread (chunksPerThread 1) instead of claimed chunks.
   let reference = 0;
   let referenceCpu = 0;
   let expected = '';
@@ -250,10 +240,10 @@ async function threads(): Promise<void> {
   const warmPool4 = new RangeThreadPool(entry);
   const rows: [string, number, () => DrawRunner | undefined][] = [
     ['1 (here)', 1, () => undefined],
-    ['2 cold, re-planning', 2, () => fanOutRunner({ parts: 2, unit: 'thread', execute: threadExecutor(new RangeThreadPool(entry), { shipPlan: false }) })],
-    ['2 cold', 2, () => threadRunner(2, false, entry)],
-    ['2 warm', 2, () => threadRunner(2, false, entry, warmPool2)],
-    ['4 warm', 4, () => threadRunner(4, false, entry, warmPool4)],
+    ['2 cold', 2, () => threadRunner(2, false, { entry })],
+    ['2 warm, one range each', 2, () => threadRunner(2, false, { entry, pool: warmPool2, chunksPerThread: 1 })],
+    ['2 warm', 2, () => threadRunner(2, false, { entry, pool: warmPool2 })],
+    ['4 warm', 4, () => threadRunner(4, false, { entry, pool: warmPool4 })],
   ];
   for (const [label, threadsUsed, makeRunner] of rows) {
     const times: number[] = [];
