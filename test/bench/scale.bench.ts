@@ -11,8 +11,9 @@
  *    while the cost model prices 1500 over the work limit. First where one thread's time goes
  *    (validate, plan, draws, report with its outside-band bootstrap and forecast sensitivity) and
  *    the serial share (Amdahl's bound); then wall time with 1, 2 and 4 threads: cold threads (a
- *    fresh pool per run, the old re-planning path too) and warm ones (a pool kept between runs);
- *    then fresh CLI processes, --threads 1 against 2. Goal ≥ 1.6× with 2 threads on 2 cores.
+ *    fresh pool per run: one range each) and warm ones (a pool kept between runs: chunks claimed
+ *    largest first, and for comparison one range each); then fresh CLI processes, --threads 1
+ *    against 2. Goal ≥ 1.6× with 2 threads on 2 cores.
  * 3. Durable Object shards in local workerd (Miniflare over the wrangler bundle): the 2000-asset,
  *    8-factor case with 1, 4 and 8 shards. Local workerd runs every object in one process on one
  *    thread, so this shows that sharding is correct and what it costs (planning in each shard,
