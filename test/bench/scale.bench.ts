@@ -245,14 +245,24 @@ async function threads(): Promise<void> {
     ['2 warm', 2, () => threadRunner(2, false, { entry, pool: warmPool2 })],
     ['4 warm', 4, () => threadRunner(4, false, { entry, pool: warmPool4 })],
   ];
-  // Rows take turns (round-robin, ROUNDS rounds) so a drift of the machine's speed, common on a
-  // shared virtual machine, hits every row alike; each row reports its best round.
+  // The warm rows take turns (round-robin, ROUNDS rounds after one warm-up round) so a drift of the
+  // machine's speed, common on a shared virtual machine, hits every row alike; each row reports its
+  // best round. The cold row runs on its own afterwards: a fresh thread's compiler work can outlast
+  // its run and would slow whichever row came next.
   const ROUNDS = QUICK ? 2 : 5;
   const results = rows.map(() => ({ times: [] as number[], cpus: [] as number[], bytes: '' }));
-  for (let r = 0; r < ROUNDS; r++) {
-    for (const [k, [, , makeRunner]] of rows.entries()) {
+  const cold = (label: string): boolean => label.includes('cold');
+  const schedule: number[] = [];
+  for (let r = 0; r <= ROUNDS; r++) for (const [k, [label]] of rows.entries()) if (!cold(label)) schedule.push(r === 0 ? -1 - k : k);
+  for (let r = 0; r < ROUNDS; r++) for (const [k, [label]] of rows.entries()) if (cold(label)) schedule.push(k);
+  for (const entry of schedule) {
+    {
+      const warmUp = entry < 0;
+      const k = warmUp ? -1 - entry : entry;
+      const makeRunner = rows[k][2];
       const runner = makeRunner();
       const run = await measure(() => stressProposal(v.proposal, v.warnings, runner ? { drawRunner: runner } : {}));
+      if (warmUp) continue;
       results[k].times.push(run.wall);
       results[k].cpus.push(run.cpu);
       const { elapsedMs: _e, threads: _t, ...meta } = run.value.meta;
