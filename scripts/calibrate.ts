@@ -8,8 +8,8 @@
  * Figures whose error is exactly 0 in every seed and whose value never moves are counted as
  * "exact" (point masses); a figure with stdErr 0 that does move is flagged. A figure that never
  * moves (beyond rounding: spread ≤ 1e-12 × its size) but reports an error > 0 has no readable
- * ratio (it would be 0 whatever the error) and is counted as "still", with its largest mean error
- * relative to its value: a percentile on a point mass that a rare rerun leaves (full Kelly's
+ * ratio (it would be 0 whatever the error) and is counted as "still", with its largest mean
+ * error: a percentile on a point mass that a rare rerun leaves (full Kelly's
  * certainty-equivalent-loss median on D1) rightly reports a tiny error that 150 seeds never see.
  *
  * It also runs the gate itself (`judge`, as `check` does) on rules placed exactly at the true
@@ -136,7 +136,7 @@ interface KindRow {
   flagged: number;
   /** Figures that never moved in K seeds (beyond rounding) but report an error > 0. */
   still: number;
-  /** The largest such mean error relative to |value|. */
+  /** The largest such mean error. */
   stillLargest: number;
   ratios: number[];
 }
@@ -169,11 +169,10 @@ function ratioRows(samples: Samples): KindRow[] {
       }
       if (spread === 0) {
         // Never moved in K seeds, yet an error is reported: no ratio can be read (any error > 0
-        // gives 0), so it is counted apart with its size relative to the figure. A tiny error is
-        // honest for a figure that leaves a point mass only in a rare rerun (pointMassStdErr).
+        // gives 0), so it is counted apart with its size. A tiny error is honest for a figure
+        // that leaves a point mass only in a rare rerun (pointMassStdErr).
         row.still++;
-        const relative = scale > 0 ? meanError / scale : Number.POSITIVE_INFINITY;
-        if (relative > row.stillLargest) row.stillLargest = relative;
+        if (meanError > row.stillLargest) row.stillLargest = meanError;
         continue;
       }
       const ratio = spread / meanError;
@@ -408,7 +407,7 @@ async function main(): Promise<void> {
           : `${quantile(sorted, 0.5).toFixed(2).padStart(12)}   [${quantile(sorted, 0.1).toFixed(2)} – ${quantile(sorted, 0.9).toFixed(2)}]`.padEnd(34) +
             `${sorted[0].toFixed(2)} – ${sorted[sorted.length - 1].toFixed(2)}`.padEnd(16) +
             `${within}/${sorted.length}`.padStart(8);
-      const still = row.still > 0 ? `   still ${row.still} (se ≤ ${row.stillLargest.toExponential(1)} × value)` : '';
+      const still = row.still > 0 ? `   still ${row.still} (mean se ≤ ${row.stillLargest.toExponential(1)})` : '';
       console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}${still}`);
     }
     const rate = (metric: GateMetric, kind: string): string => `${((100 * (fails.get(`${metric}|${kind}`) ?? 0)) / K).toFixed(1).padStart(5)} %`;
