@@ -213,6 +213,9 @@ export function orderStatisticStdErr(sorted: ArrayLike<number>, n: number, q: nu
   return pointMassStdErr(sorted, n, q, s);
 }
 
+/** Bootstrap tail mass below which the point-mass sum stops (see bootstrapOrderStatisticSd). */
+const NEGLIGIBLE_TAIL = 1e-20;
+
 /** Half-width, in sds of rank, beyond which no rerun's percentile plausibly reaches (7 sds). */
 const POINT_MASS_REACH = 7;
 
@@ -241,8 +244,9 @@ export function pointMassStdErr(sorted: ArrayLike<number>, n: number, q: number,
 
 /**
  * Exact bootstrap sd of the order statistic at 0-based `index`: 0 when the draws within q ± 7s are
- * tied, else over every position whose weight is not 0 in double precision (the weights fall off
- * like binomial tails, so the sum stops within about 9 sds of rank). Below the order statistic the
+ * tied, else summed outwards from the order statistic until the remaining binomial tail is below
+ * 1e-20 (about 9 sds of rank; what is left adds less than 1e-20 × (range of the draws)² to the
+ * variance, far below any error worth reporting). Below the order statistic the
  * weights are differences of P(Bin ≥ r), above it of P(Bin ≤ r − 1), so each is a difference of
  * small tails and keeps its relative precision where it matters (a tiny error made of rare jumps).
  */
@@ -265,14 +269,14 @@ function bootstrapOrderStatisticSd(sorted: ArrayLike<number>, n: number, index: 
   };
   // Positions r, r − 1, …: w_i = P(Bin(n, i/n) ≥ r) − P(Bin(n, (i − 1)/n) ≥ r).
   let atOrBelow = binomialSurvival(r, n, r / n);
-  for (let i = r; i >= 1 && atOrBelow > 0; i--) {
+  for (let i = r; i >= 1 && atOrBelow > NEGLIGIBLE_TAIL; i--) {
     const below = binomialSurvival(r, n, (i - 1) / n);
     add(atOrBelow - below, sorted[i - 1]);
     atOrBelow = below;
   }
   // Positions r + 1, …: w_i = P(Bin(n, (i − 1)/n) ≤ r − 1) − P(Bin(n, i/n) ≤ r − 1).
   let above = binomialCdf(r - 1, n, r / n);
-  for (let i = r + 1; i <= n && above > 0; i++) {
+  for (let i = r + 1; i <= n && above > NEGLIGIBLE_TAIL; i++) {
     const next = binomialCdf(r - 1, n, i / n);
     add(above - next, sorted[i - 1]);
     above = next;
