@@ -81,7 +81,8 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'Selection rate: sqrt(p(1-p)/(n-1)). ' +
   'Errors that cannot be estimated (fewer than 2 successful draws, or a mean-driven share resting on rare draws) are reported as null, with a warning. ' +
   'The gate (check) judges each rule by a one-sided confidence bound at the policy confidence (verdict rule `bound`): ' +
-  'value -/+ z*SE, z = the normal quantile at the confidence (for the mean-driven share, a share in (0, 1), on the logit scale: expit(logit(v) -/+ z*SE/(v(1-v)))), except for figures that a standard error cannot gate honestly. ' +
+  'value -/+ z*SE, z = the normal quantile at the confidence (for the mean-driven share, a share in (0, 1), on the logit scale: expit(logit(v) -/+ z*SE/(v(1-v))), ' +
+  'with z the Student t quantile on m-1 degrees of freedom, m = min(30, floor(B/10)) jackknife groups, as also for maxIncrease of it), except for figures that a standard error cannot gate honestly. ' +
   'Outside-band share (it moves in whole assets): per asset, exact binomial tests on the draws of whether the proposed weight lies ' +
   'below the 5th or above the 95th percentile of the weight distribution (the count of draws at or below it is Binomial(n, F(x))), ' +
   'Holm-adjusted over the assets; lower bound = assets confidently outside / assets, upper bound = assets not confidently inside / assets. ' +
