@@ -2,12 +2,16 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
+import { FINEST_CHUNK_PER_LANE, laneChunks } from '../scale/chunk-claims.js';
+import { runLanes, type Lane } from '../scale/lanes.js';
 import { computeRange } from '../scale/range-job.js';
-import { RangeCancelledError } from '../scale/errors.js';
-import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
+import type { DrawRange } from '../scale/ranges.js';
+import type { Proposal } from '../schema/proposal.js';
+import { inputDigest } from '../stress/digest.js';
+import { createAccumulators, runDraws, type StressPlan } from '../stress/engine.js';
 import { planForecastSensitivity } from '../stress/plan-summary.js';
 import type { DrawRunner } from '../stress/run.js';
-import type { RangeMessage, ThreadMessage } from './range-thread.js';
+import type { ChunkJobMessage, ThreadMessage } from './range-thread.js';
 
 /** Default --threads: the cores Node may use, at most this many (more threads than cores only add start-up and memory). */
 export const MAX_DEFAULT_THREADS = 8;
@@ -56,6 +60,8 @@ function startRangeThread(entry?: URL): Worker {
  */
 export class RangeThreadPool {
   private readonly idle: Worker[] = [];
+  /** Threads that have finished a job (their code is compiled). */
+  private readonly warm = new WeakSet<Worker>();
 
   /** `entry` overrides the thread's module (e.g. a bundled range-thread for benchmarks). */
   constructor(private readonly entry?: URL) {}
@@ -67,6 +73,11 @@ export class RangeThreadPool {
 
   get idleThreads(): number {
     return this.idle.length;
+  }
+
+  /** Idle threads that have finished a job before (modules loaded and hot code compiled). */
+  get warmIdleThreads(): number {
+    return this.idle.filter((w) => this.warm.has(w)).length;
   }
 
   private spawn(): Worker {
@@ -89,9 +100,10 @@ export class RangeThreadPool {
     return worker;
   }
 
-  /** Returns a thread that finished its range cleanly. */
+  /** Returns a thread that finished its job cleanly (it is warm from now on). */
   release(worker: Worker): void {
     worker.unref();
+    this.warm.add(worker);
     this.idle.push(worker);
   }
 
@@ -101,20 +113,45 @@ export class RangeThreadPool {
   }
 }
 
+/** Lets queued events run (worker threads' partials are merged there) before this thread computes its next chunk. */
+const nextTurn = (): Promise<void> => new Promise((resolve) => setImmediate(resolve));
+
 /**
- * Computes a range on a pooled worker thread, sending the caller's plan solution along so the
- * thread does not solve the base optima again. Terminating the thread is how a range is stopped
- * (a stopped or failed thread is not reused). `shipPlan: false` lets the thread plan for itself
- * (the path before plan hand-over, kept for the benchmark's comparison).
+ * This thread as a lane: it claims chunks like the worker threads, computing each from the plan
+ * already made here (nothing validated or planned again), and yields between chunks so the worker
+ * threads' partials are merged as they arrive. It stops claiming when the request is cancelled
+ * (within one chunk). When no chunk is left it computes the report's plan-only part (forecast
+ * sensitivity) while the worker threads finish theirs.
  */
-export const threadExecutor =
-  (pool: RangeThreadPool, { shipPlan = true }: { shipPlan?: boolean } = {}): RangeExecutor =>
-  (request, { signal, onProgress, plan }) =>
-    new Promise<Uint8Array>((resolve, reject) => {
-      if (signal.aborted) return reject(new RangeCancelledError());
+const hereLane =
+  (plan: StressPlan, digest: string): Lane =>
+  async ({ claims, chunks, deliver, progress, signal }) => {
+    for (;;) {
+      await nextTurn();
+      if (signal.aborted) return {};
+      const k = claims.claim();
+      if (k === undefined) break;
+      const chunk = chunks[k];
+      const request = { proposal: undefined, draws: plan.draws, seed: plan.seed, start: chunk.start, end: chunk.end };
+      deliver(k, await computeRange(request, { planned: { plan, inputDigest: digest }, onProgress: progress }));
+    }
+    planForecastSensitivity(plan);
+    return {};
+  };
+
+/**
+ * A pooled worker thread as a lane: it is sent the validated proposal and the plan's solution
+ * once, then claims chunks by itself (src/cli/range-thread.ts). A thread that finishes cleanly
+ * goes back to the pool; a cancelled or failed one is terminated (how a thread is stopped at once).
+ */
+const workerLane =
+  (pool: RangeThreadPool, job: Omit<ChunkJobMessage, 'type' | 'claims' | 'chunks'>): Lane =>
+  ({ claims, chunks, deliver, progress, signal }) =>
+    new Promise((resolve) => {
+      if (signal.aborted) return resolve({});
       const worker = pool.acquire();
       let settled = false;
-      const settle = (action: () => void, reuse: boolean): void => {
+      const settle = (failure: string | undefined, reuse: boolean): void => {
         if (settled) return;
         settled = true;
         signal.removeEventListener('abort', onAbort);
@@ -123,59 +160,85 @@ export const threadExecutor =
         worker.off('exit', onExit);
         if (reuse) pool.release(worker);
         else void worker.terminate();
-        action();
+        resolve(failure === undefined ? {} : { failure });
       };
-      const onAbort = (): void => settle(() => reject(new RangeCancelledError()), false);
+      const onAbort = (): void => settle(undefined, false);
       const onMessage = (m: ThreadMessage): void => {
-        if (m.type === 'progress') onProgress(m.done);
-        else if (m.type === 'done') settle(() => resolve(m.bytes), true);
-        else settle(() => reject(new Error(m.message)), false);
+        if (m.type === 'progress') progress(m.done);
+        else if (m.type === 'chunk') deliver(m.index, m.bytes);
+        else if (m.type === 'finished') settle(undefined, true);
+        else settle(`a worker thread failed: ${m.message}`, false);
       };
-      const onError = (e: Error): void => settle(() => reject(e), false);
-      const onExit = (code: number): void => settle(() => reject(new Error(`the thread exited with code ${code} before finishing`)), false);
+      const onError = (e: Error): void => settle(`a worker thread failed: ${e.message}`, false);
+      const onExit = (code: number): void => settle(`a worker thread exited with code ${code} before finishing`, false);
       signal.addEventListener('abort', onAbort, { once: true });
       worker.on('message', onMessage);
       worker.on('error', onError);
       worker.on('exit', onExit);
       try {
-        worker.postMessage({ type: 'range', request, solution: shipPlan ? plan.solution : undefined } satisfies RangeMessage);
+        worker.postMessage({ ...job, type: 'chunks', chunks, claims: claims.buffer as SharedArrayBuffer } satisfies ChunkJobMessage);
       } catch (e) {
-        settle(() => reject(e), false);
+        settle(`could not start a worker thread's chunks: ${e instanceof Error ? e.message : String(e)}`, false);
       }
     });
 
-/**
- * Computes a range on this thread from the plan already made here (nothing validated or planned
- * again), then the report's plan-only part while the other threads finish, after letting the other ranges' threads start (the draws run synchronously and would
- * hold them back). It cannot be interrupted; a cancel is noticed when it ends.
- */
-const computeHere: RangeExecutor = async (request, { signal, onProgress, plan, inputDigest }) => {
-  await new Promise((resolve) => setTimeout(resolve, 0));
-  if (signal.aborted) throw new RangeCancelledError();
-  const bytes = await computeRange(request, { onProgress, planned: { plan, inputDigest } });
-  if (signal.aborted) throw new RangeCancelledError();
-  // This thread would now wait for the worker threads' ranges: the report's plan-only part
-  // (forecast sensitivity) is computed in that time instead of after the merge.
-  planForecastSensitivity(plan);
-  return bytes;
-};
+/** Computes a chunk again on this thread (a chunk a failed lane left behind). */
+const retryHere =
+  (plan: StressPlan, digest: string) =>
+  async (chunk: DrawRange): Promise<Uint8Array> =>
+    computeRange({ proposal: undefined, draws: plan.draws, seed: plan.seed, start: chunk.start, end: chunk.end }, { planned: { plan, inputDigest: digest } });
+
+export interface ThreadRunnerOptions {
+  /** The worker-thread module (e.g. a bundled range-thread for benchmarks). */
+  readonly entry?: URL;
+  /** Threads to reuse (kept warm across requests by a long-lived caller). */
+  readonly pool?: RangeThreadPool;
+  /**
+   * Finest chunk as a fraction of a thread's share (1: one contiguous range per thread). Default:
+   * FINEST_CHUNK_PER_LANE when every worker thread needed is warm, else 1 (see threadRunner).
+   */
+  readonly finestChunk?: number;
+  readonly signal?: AbortSignal;
+}
 
 /**
- * Splits the draws over `threads` threads (this one and threads − 1 worker threads), one contiguous
- * range each, merged into the same report as one loop (meta.threads records the split). With
- * `automatic` (no --threads given), small requests stay on this thread. `pool`: threads to reuse
- * (kept warm across requests by a long-lived caller).
+ * Splits the draws over `threads` threads (this one and threads − 1 worker threads), which claim
+ * chunks of the draws as they become free (src/scale/chunk-claims.ts); the partials merge into the
+ * same report as one loop (meta.threads records the split). With `automatic` (no --threads
+ * given), small requests stay on this thread.
  */
-export function threadRunner(threads: number, automatic: boolean, entry?: URL, pool: RangeThreadPool = new RangeThreadPool(entry)): DrawRunner {
+export function threadRunner(threads: number, automatic: boolean, options: ThreadRunnerOptions = {}): DrawRunner {
+  const pool = options.pool ?? new RangeThreadPool(options.entry);
   // Asked for explicitly, the threads start now: their start-up overlaps reading, validating and
   // planning here. The automatic choice waits for the plan's estimated work (small requests stay here).
   if (!automatic) pool.prestart(threads - 1);
-  const onThread = threadExecutor(pool);
-  return fanOutRunner({
-    parts: automatic ? (plan) => (plan.workUnits < (entry ? AUTO_THREADS_MIN_WORK : automaticMinWork()) ? 'here' : threads) : threads,
-    // The first range runs on this thread (one thread start, module load and JIT warm-up fewer);
-    // its retry, if any, on a worker thread.
-    execute: (request, context) => (context.range.index === 0 && context.attempt === 1 ? computeHere(request, context) : onThread(request, context)),
-    unit: 'thread',
-  });
+  const minWork = options.entry ? AUTO_THREADS_MIN_WORK : automaticMinWork();
+  const runner = {
+    record: {} as { threads?: number },
+    async run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void) {
+      if (automatic && plan.workUnits < minWork) {
+        runner.record = {};
+        const acc = createAccumulators(plan);
+        runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
+        return acc;
+      }
+      const lanes = Math.min(threads, plan.draws);
+      runner.record = { threads: lanes };
+      const digest = await inputDigest(proposal);
+      // Measured with `npm run bench:scale` (30 assets, 1500 draws, 2 threads on 2 cores): warm
+      // threads finish together on chunks down to 1/32 of a share (1.27 s against 1.39 s with one
+      // range each), but a thread that has not yet compiled its code runs its second and later
+      // chunks much slower (their first draws run as if cold again, a few hundred ms per thread
+      // lost), so in a fresh process one contiguous range per thread is faster (2.40–2.56 s against
+      // 2.72–2.90 s). Cold threads therefore get one range each; they still claim it, so a failed
+      // thread's range is computed again here.
+      const warm = pool.warmIdleThreads >= lanes - 1;
+      const chunks = laneChunks(plan.draws, lanes, options.finestChunk ?? (warm ? FINEST_CHUNK_PER_LANE : 1));
+      const job = { proposal, draws: plan.draws, seed: plan.seed, inputDigest: digest, solution: plan.solution };
+      const all: Lane[] = [hereLane(plan, digest)];
+      for (let k = 1; k < lanes; k++) all.push(workerLane(pool, job));
+      return runLanes(plan, digest, chunks, all, retryHere(plan, digest), { signal: options.signal, onProgress });
+    },
+  };
+  return runner;
 }

@@ -24,8 +24,17 @@ import { OptimizationError } from './types.js';
  * The working set is kept linearly independent (rows restricted to F have full row rank): the
  * start is cleaned by Gram–Schmidt, and the method only ever adds constraints with a non-zero
  * component along the step, which preserves independence (N&W §16.5).
- * Degenerate cycling is guarded by switching to Bland's smallest-index rule after a long run of
- * zero-length steps.
+ * Degenerate cycling is guarded by switching to Bland's smallest-index rule (Bland 1977, "New
+ * finite pivoting rules for the simplex method", Math. Oper. Res. 2; citation from memory) for
+ * both the entering and the leaving choice after a long run of zero-length steps.
+ *
+ * Termination on a flat face (singular H under the ridge, level 2): every "zero" — a step, a
+ * reduced gradient, a multiplier of the wrong sign — is measured on the KKT scale
+ * G = max(‖c‖, ‖Hx‖, h̄·W) of kkt.ts (gradientScale), never on the size of the gradient alone,
+ * and x is accepted once the reduced gradient on its face is rounding (faceStationary). At a
+ * riskless optimum Hx is itself rounding noise, and without the h̄·W floor the method kept taking
+ * rounding-sized ridge steps until its iteration cap. Whatever stops the loop, the caller judges
+ * the point by the independent KKT residual (kkt.ts), so an unmet condition is still a failure.
  */
 
 /** One explicit linear row lo ≤ Σ coef_k x_{idx_k} ≤ hi (lo = hi for an equality). */
@@ -241,7 +250,7 @@ export class ActiveSetEngine {
       // ridge (level 2), whose steps act like proximal-point steps and may need to march on.
       const stationary =
         pNorm <= STEP_TOLERANCE * this.xScale ||
-        (this.ridgeActive() ? this.negligibleDecrease() : lastFullStep);
+        (this.ridgeActive() ? this.faceStationary() : lastFullStep);
       if (!stationary) {
         const blocker = this.ratioTest(pNorm);
         const alpha = this.blockAlpha;
@@ -719,20 +728,41 @@ export class ActiveSetEngine {
   }
 
   /**
-   * Under the ridge, rounding leaves steps of size ~u·|g|/ε along flat directions; what matters is
-   * whether the step would lower the true objective: −(gᵀp + ½pᵀHp) against rounding of f.
+   * Under the ridge, rounding in g leaves steps of size ~u·|g|/ε along flat directions, so the
+   * step's size says nothing; what matters is whether x already satisfies stationarity on its
+   * face: the reduced gradient g_F − (A_Wᵀν)_F, with ν from the step system, is rounding. The
+   * floor is 10·n·ε_mach·G: the worst-case rounding of the n-term products in Hx (Higham,
+   * Accuracy and Stability of Numerical Algorithms, 2nd ed. 2002, §3.1, γ_n) with a safety
+   * factor, on the gradient scale G of gradientScale().
    */
-  private negligibleDecrease(): boolean {
-    const { n, linear } = this.problem;
-    const hp = this.work;
-    this.problem.hessian.multiply(this.p, hp);
-    let decrease = 0;
-    let gradScale = 0;
-    for (let i = 0; i < n; i++) {
-      decrease -= this.p[i] * (this.g[i] + 0.5 * hp[i]);
-      gradScale = Math.max(gradScale, Math.abs(linear[i]), Math.abs(this.g[i] + linear[i]));
+  private faceStationary(): boolean {
+    const n = this.problem.n;
+    this.accumulateRowTerms();
+    const free = this.free;
+    let reduced = 0;
+    for (let j = 0; j < this.nFree; j++) {
+      const i = free[j];
+      reduced = Math.max(reduced, Math.abs(this.g[i] - this.atNu[i]));
     }
-    return decrease <= 1e-14 * Math.max(gradScale, Number.MIN_VALUE) * this.xScale;
+    return reduced <= 10 * n * Number.EPSILON * this.gradientScale();
+  }
+
+  /**
+   * G = max(‖c‖∞, ‖Hx‖∞, h̄·W) with h̄ = trace(H)/n and W the x scale: the size below which a
+   * reduced gradient or a multiplier is rounding. It is the scale of the KKT
+   * residual in kkt.ts (there with max_i H_ii ≥ h̄): Hx is only known to about ε·h·W, because x
+   * is only known to ε·W (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed. 2002,
+   * §7.1). Without the h̄·W floor, at a riskless optimum (Hx ≈ 0, c = 0: a singular covariance
+   * with a zero-risk long-only portfolio) G is the rounding noise of Hx itself, so every
+   * rounding-sized reduced gradient looks like one to follow and every rounding-sized multiplier like
+   * a wrong sign: the method marched on along a flat face until its iteration cap (about a
+   * quarter of the minimum-variance draws with fewer observations than assets).
+   */
+  private gradientScale(): number {
+    const { n, linear } = this.problem;
+    let scale = this.problem.hessian.curvatureScale * this.xScale;
+    for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(linear[i]), Math.abs(this.g[i] + linear[i]));
+    return scale;
   }
 
   // ---------------------------------------------------------------------------------------------
@@ -756,10 +786,9 @@ export class ActiveSetEngine {
    * active-row position a as n + a), or NONE.
    */
   private worstMultiplier(tolerance: number): number {
-    const { n, lower, upper, linear, rows } = this.problem;
+    const { n, lower, upper, rows } = this.problem;
     this.accumulateRowTerms();
-    let gradScale = 0;
-    for (let i = 0; i < n; i++) gradScale = Math.max(gradScale, Math.abs(linear[i]), Math.abs(this.g[i] + linear[i]));
+    const gradScale = this.gradientScale();
     const tol = tolerance * (gradScale > 0 ? gradScale : 1);
     let worst = NONE;
     let worstValue = tol;

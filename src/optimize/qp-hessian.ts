@@ -30,6 +30,11 @@ export interface ReducedHessian {
   readonly n: number;
   /** trace(H)/n, or 1 when H has zero trace: the scale of ρ and ε. */
   readonly diagonalScale: number;
+  /**
+   * trace(H)/n as it is (0 for H = 0): the size of a typical entry of H. The solver's tests for
+   * "zero" gradients and decreases use curvatureScale·‖x‖ as the rounding floor of Hx (see kkt.ts).
+   */
+  readonly curvatureScale: number;
   readonly level: RegularisationLevel;
   /** ε currently added at level 2 (0 below). */
   readonly ridge: number;
@@ -75,6 +80,7 @@ export const RIDGE_RELATIVE = 1e-10;
 export class DenseReducedHessian implements ReducedHessian {
   readonly n: number;
   readonly diagonalScale: number;
+  readonly curvatureScale: number;
   level: RegularisationLevel = 0;
   ridge = 0;
   private rho = 0;
@@ -98,6 +104,7 @@ export class DenseReducedHessian implements ReducedHessian {
     for (let i = 0; i < n; i++) t += matrix[i * n + i];
     t *= scale / n;
     this.diagonalScale = t > 0 && Number.isFinite(t) ? t : 1;
+    this.curvatureScale = t > 0 && Number.isFinite(t) ? t : 0;
   }
 
   multiply(x: Float64Array, out: Float64Array): void {
@@ -204,6 +211,7 @@ export class DenseReducedHessian implements ReducedHessian {
 export class FactorReducedHessian implements ReducedHessian {
   readonly n: number;
   readonly diagonalScale: number;
+  readonly curvatureScale: number;
   readonly level: RegularisationLevel = 0;
   readonly ridge = 0;
   private readonly model: FactorRiskModel;
@@ -222,6 +230,8 @@ export class FactorReducedHessian implements ReducedHessian {
     this.solver = new FactorSubsetSolver(n, k);
     this.scratchK = new Float64Array(2 * k);
     this.diagonalScale = factorHessianDiagonalScale(model, factorScale, specificScale);
+    // A factor Hessian reaching this class has positive specific variance, so its trace is positive.
+    this.curvatureScale = this.diagonalScale;
     const diag = new Float64Array(n);
     for (let i = 0; i < n; i++) diag[i] = specificScale * model.specificVar[i];
     this.solver.setFactorModel(model.loadings, model.factorCov, k, factorScale, diag);
@@ -325,6 +335,7 @@ export function factorHessianDiagonalScale(model: FactorRiskModel, factorScale: 
 export class DiagonalReducedHessian implements ReducedHessian {
   readonly n: number;
   readonly diagonalScale: number;
+  readonly curvatureScale: number;
   readonly level: RegularisationLevel = 0;
   readonly ridge = 0;
   private readonly d: Float64Array;
@@ -335,6 +346,7 @@ export class DiagonalReducedHessian implements ReducedHessian {
     let t = 0;
     for (let i = 0; i < d.length; i++) t += d[i];
     this.diagonalScale = t > 0 ? t / d.length : 1;
+    this.curvatureScale = t > 0 ? t / d.length : 0;
   }
 
   multiply(x: Float64Array, out: Float64Array): void {

@@ -42,7 +42,8 @@ export class ShardFailedError extends Error {
     readonly reason: string,
     /** HTTP status to answer with: the refusal's own 4xx, else 502 (an upstream failed). */
     readonly status: number,
-    readonly unit: 'shard' | 'thread' = 'shard',
+    /** What the range is called: a shard, a thread's range, or a chunk claimed by worker threads. */
+    readonly unit: 'shard' | 'thread' | 'chunk' = 'shard',
   ) {
     super(`${unit} ${shard.index} (${describeRange(shard)}) failed${attempts > 1 ? ` on ${attempts} attempts` : ''}: ${reason}`);
     this.name = 'ShardFailedError';

@@ -1,5 +1,4 @@
-import { batchOfDraw } from '../statistics/batch-means.js';
-import { ChannelVarianceAccumulator, type ChannelVarianceState } from '../statistics/channel-variance.js';
+import { ChannelVarianceAccumulator } from '../statistics/channel-variance.js';
 import type { StressAccumulators } from '../stress/engine.js';
 import type { ScalarAccumulator } from '../statistics/scalar-accumulator.js';
 import type { WeightAccumulator } from '../statistics/weight-accumulator.js';
@@ -119,83 +118,21 @@ const weightRows: Codec<WeightAccumulator> = {
   },
 };
 
-/** Doubles per (channel, batch, asset) cell of the channel-variance accumulator: 5 + 5 exact-sum pieces, min, max. */
-const CHANNEL_CELL_VALUES = 12;
-const PIECES = 5;
-
-function touchedBatches(a: ChannelVarianceAccumulator, s: WireShape): { first: number; count: number } {
-  const first = batchOfDraw(s.draws, a.batches, s.start);
-  return { first, count: batchOfDraw(s.draws, a.batches, s.end - 1) - first + 1 };
-}
-
 /**
  * The channel-variance accumulator keeps exact per-batch sums (not per-draw rows): a range carries
  * its per-draw status (2 bytes a draw) and the cells of the batches it touches; a batch split
- * between two ranges merges exactly (exact sums add without rounding; min/max combine).
+ * between two ranges merges exactly (exact sums add without rounding; min/max combine). The
+ * accumulator reads and writes its own typed arrays (ChannelVarianceAccumulator.writeWire/readWire).
  */
 const channelCells: Codec<ChannelVarianceAccumulator> = {
   size(a, s) {
-    const { count } = touchedBatches(a, s);
-    return { f64: 2 * count * (1 + a.assets * CHANNEL_CELL_VALUES), u8: 2 * (s.end - s.start) };
+    return ChannelVarianceAccumulator.wireSize(s.draws, a.assets, s);
   },
   write(a, s, c) {
-    const state = a.toState();
-    const B = s.draws;
-    const n = a.assets;
-    const m = a.batches;
-    for (let ch = 0; ch < 2; ch++) {
-      for (let b = s.start; b < s.end; b++) {
-        const status = state.status[ch * B + b];
-        if (status === 0) throw new Error(`channel accumulator: draw ${b} not recorded`);
-        c.u8[c.u8At++] = status;
-      }
-    }
-    const { first, count } = touchedBatches(a, s);
-    for (let ch = 0; ch < 2; ch++) {
-      for (let k = first; k < first + count; k++) {
-        const batchCell = ch * m + k;
-        c.f64[c.f64At++] = state.counts[batchCell];
-        for (let i = 0; i < n; i++) {
-          const cell = batchCell * n + i;
-          for (let p = 0; p < PIECES; p++) c.f64[c.f64At++] = state.sumPieces[cell * PIECES + p];
-          for (let p = 0; p < PIECES; p++) c.f64[c.f64At++] = state.squarePieces[cell * PIECES + p];
-          c.f64[c.f64At++] = state.minimum[cell];
-          c.f64[c.f64At++] = state.maximum[cell];
-        }
-      }
-    }
+    a.writeWire(s, c);
   },
   read(target, s, c) {
-    const B = s.draws;
-    const n = target.assets;
-    const m = target.batches;
-    const cells = 2 * m * n;
-    const state: ChannelVarianceState = {
-      draws: B,
-      assets: n,
-      status: new Array<number>(2 * B).fill(0),
-      counts: new Array<number>(2 * m).fill(0),
-      sumPieces: new Array<number>(cells * PIECES).fill(0),
-      squarePieces: new Array<number>(cells * PIECES).fill(0),
-      minimum: new Array<number>(cells).fill(0),
-      maximum: new Array<number>(cells).fill(0),
-    };
-    for (let ch = 0; ch < 2; ch++) for (let b = s.start; b < s.end; b++) state.status[ch * B + b] = c.u8[c.u8At++];
-    const { first, count } = touchedBatches(target, s);
-    for (let ch = 0; ch < 2; ch++) {
-      for (let k = first; k < first + count; k++) {
-        const batchCell = ch * m + k;
-        state.counts[batchCell] = c.f64[c.f64At++];
-        for (let i = 0; i < n; i++) {
-          const cell = batchCell * n + i;
-          for (let p = 0; p < PIECES; p++) state.sumPieces[cell * PIECES + p] = c.f64[c.f64At++];
-          for (let p = 0; p < PIECES; p++) state.squarePieces[cell * PIECES + p] = c.f64[c.f64At++];
-          state.minimum[cell] = c.f64[c.f64At++];
-          state.maximum[cell] = c.f64[c.f64At++];
-        }
-      }
-    }
-    target.merge(ChannelVarianceAccumulator.fromState(state));
+    target.readWire(s, c);
   },
 };
 

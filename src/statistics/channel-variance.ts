@@ -1,5 +1,5 @@
-import { batchCount, batchOfDraw, jackknifeStdErr, UNIT_INTERVAL_MAX_SD } from './batch-means.js';
-import { checkAssetCount, checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_RECORDED, DRAW_SUCCEEDED, mergeDrawStatus } from './scalar-accumulator.js';
+import { batchCount, batchOfDraw, batchStart, jackknifeStdErr, UNIT_INTERVAL_MAX_SD } from './batch-means.js';
+import { checkAssetCount, checkDrawCount, checkSlotRange, DRAW_FAILED, DRAW_NOT_RECORDED, DRAW_SUCCEEDED, mergeDrawStatus, slotOfDraw, type SlotRange } from './scalar-accumulator.js';
 
 /**
  * Mean-driven share of weight variability (design: "channels"). The mean-only channel resamples
@@ -9,7 +9,9 @@ import { checkAssetCount, checkDrawCount, checkDrawIndex, DRAW_FAILED, DRAW_NOT_
  * sample variances (divisor n − 1) over each channel's successful draws.
  *
  * Streaming and order-independent, memory O(batches × N): per batch, asset and channel the
- * accumulator keeps Σw and Σw² as EXACT sums, plus min and max. Exactness is what makes the
+ * accumulator keeps Σw and Σw² as EXACT sums, plus min and max. An accumulator for a range of the
+ * draws (a thread's or shard's chunk) holds only the batches the range touches and its draws'
+ * status, so a chunk costs memory and wire bytes in proportion to its own draws. Exactness is what makes the
  * result bit-identical however draws are ordered or split (floating-point sums otherwise depend
  * on order). Each value is cut into five pieces on fixed grids 2^24, 2^−4, 2^−32, 2^−60, 2^−88
  * (piece = round(rest / g)·g; the remainder is exact); each grid's pieces are integers times g
@@ -91,7 +93,15 @@ export interface MeanDrivenShareSummary {
   readonly covarianceChannelFailures: number;
 }
 
-/** JSON-safe state (min/max hold 0 where a cell has no draw yet). */
+/** Where a wire codec reads or writes (the shape of src/scale's cursor: typed arrays and positions). */
+export interface ChannelWireCursor {
+  readonly f64: Float64Array;
+  f64At: number;
+  readonly u8: Uint8Array;
+  u8At: number;
+}
+
+/** JSON-safe state of a whole-run accumulator (min/max hold 0 where a cell has no draw yet). */
 export interface ChannelVarianceState {
   readonly draws: number;
   readonly assets: number;
@@ -106,37 +116,63 @@ export interface ChannelVarianceState {
 export class ChannelVarianceAccumulator {
   readonly draws: number;
   readonly assets: number;
-  /** Storage batches: batchCount(B), at least 1. */
+  /** Batches of the whole request: batchCount(B), at least 1. */
   readonly batches: number;
-  /** status[c·B + b] for channel c (0 mean-only, 1 covariance-only). */
+  /** The draws held: [firstDraw, firstDraw + drawSpan) (all B for a whole run). */
+  readonly firstDraw: number;
+  readonly drawSpan: number;
+  /** The batches those draws touch: [firstBatch, firstBatch + batchSpan). */
+  readonly firstBatch: number;
+  readonly batchSpan: number;
+  /** status[c·drawSpan + (b − firstDraw)] for channel c (0 mean-only, 1 covariance-only). */
   private readonly status: Uint8Array;
-  /** counts[c·m + k]: successful draws of channel c in batch k. */
+  /** counts[c·batchSpan + (k − firstBatch)]: successful draws of channel c in batch k. */
   private readonly counts: Float64Array;
-  /** pieces[((c·m + k)·N + i)·LEVELS + level]. */
+  /** pieces[((c·batchSpan + k − firstBatch)·N + i)·LEVELS + level]. */
   private readonly sumPieces: Float64Array;
   private readonly squarePieces: Float64Array;
-  /** minimum[(c·m + k)·N + i]. */
+  /** minimum[(c·batchSpan + k − firstBatch)·N + i]. */
   private readonly minimum: Float64Array;
   private readonly maximum: Float64Array;
 
-  constructor(draws: number, assets: number) {
+  /** `range`: the draws this accumulator holds (default all); the summaries need all of them. */
+  constructor(draws: number, assets: number, range?: SlotRange) {
     checkDrawCount(draws);
     checkAssetCount(assets);
+    const { start, end } = checkSlotRange(draws, range);
     this.draws = draws;
     this.assets = assets;
     this.batches = Math.max(1, batchCount(draws));
-    const cells = 2 * this.batches * assets;
-    this.status = new Uint8Array(2 * draws);
-    this.counts = new Float64Array(2 * this.batches);
+    this.firstDraw = start;
+    this.drawSpan = end - start;
+    this.firstBatch = batchOfDraw(draws, this.batches, start);
+    this.batchSpan = batchOfDraw(draws, this.batches, end - 1) - this.firstBatch + 1;
+    const cells = 2 * this.batchSpan * assets;
+    this.status = new Uint8Array(2 * this.drawSpan);
+    this.counts = new Float64Array(2 * this.batchSpan);
     this.sumPieces = new Float64Array(cells * LEVELS);
     this.squarePieces = new Float64Array(cells * LEVELS);
     this.minimum = new Float64Array(cells).fill(Number.POSITIVE_INFINITY);
     this.maximum = new Float64Array(cells).fill(Number.NEGATIVE_INFINITY);
   }
 
-  /** Memory in doubles: 2 channels × batches × N × (2·5 pieces + min + max). */
+  /** Memory in doubles of a whole run's accumulator: 2 channels × batches × N × (2·5 pieces + min + max). */
   static storedValues(draws: number, assets: number): number {
     return 2 * Math.max(1, batchCount(draws)) * assets * (2 * LEVELS + 2);
+  }
+
+  /** Doubles this accumulator holds (its batches only). */
+  get storedValueCount(): number {
+    return this.sumPieces.length + this.squarePieces.length + this.minimum.length + this.maximum.length + this.counts.length;
+  }
+
+  /** Whether it holds every draw of the request (the summaries need that). */
+  get whole(): boolean {
+    return this.drawSpan === this.draws;
+  }
+
+  private requireWhole(what: string): void {
+    if (!this.whole) throw new Error(`${what} needs the accumulator of every draw (this one holds draws ${this.firstDraw}..${this.firstDraw + this.drawSpan - 1})`);
   }
 
   /**
@@ -145,9 +181,8 @@ export class ChannelVarianceAccumulator {
    * channel) once only.
    */
   record(drawIndex: number, channel: VarianceChannel, weights: ArrayLike<number>, offset = 0): void {
-    checkDrawIndex(drawIndex, this.draws);
     const c = channel === 'mean-only' ? 0 : 1;
-    const slot = c * this.draws + drawIndex;
+    const slot = c * this.drawSpan + slotOfDraw(drawIndex, this.draws, this.firstDraw, this.drawSpan);
     if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} (${channel}) already recorded`);
     const n = this.assets;
     for (let i = 0; i < n; i++) {
@@ -157,7 +192,7 @@ export class ChannelVarianceAccumulator {
       }
     }
     this.status[slot] = DRAW_SUCCEEDED;
-    const batchCell = c * this.batches + batchOfDraw(this.draws, this.batches, drawIndex);
+    const batchCell = c * this.batchSpan + batchOfDraw(this.draws, this.batches, drawIndex) - this.firstBatch;
     this.counts[batchCell] += 1;
     const cellBase = batchCell * n;
     for (let i = 0; i < n; i++) {
@@ -175,31 +210,142 @@ export class ChannelVarianceAccumulator {
   }
 
   recordFailure(drawIndex: number, channel: VarianceChannel): void {
-    checkDrawIndex(drawIndex, this.draws);
-    const slot = (channel === 'mean-only' ? 0 : this.draws) + drawIndex;
+    const slot = (channel === 'mean-only' ? 0 : this.drawSpan) + slotOfDraw(drawIndex, this.draws, this.firstDraw, this.drawSpan);
     if (this.status[slot] !== DRAW_NOT_RECORDED) throw new Error(`draw ${drawIndex} (${channel}) already recorded`);
     this.status[slot] = DRAW_FAILED;
   }
 
-  /** Adds another accumulator over disjoint draws (same B and N); exact, so order-free. */
+  /**
+   * Adds another accumulator over disjoint draws (same B and N) whose draws lie inside this one's;
+   * exact, so order-free.
+   */
   merge(other: ChannelVarianceAccumulator): void {
     if (other.draws !== this.draws || other.assets !== this.assets) {
       throw new RangeError('cannot merge channel-variance accumulators of different shapes');
     }
-    mergeDrawStatus(this.status, other.status);
-    for (let s = 0; s < this.status.length; s++) if (other.status[s] !== DRAW_NOT_RECORDED) this.status[s] = other.status[s];
-    for (let k = 0; k < this.counts.length; k++) this.counts[k] += other.counts[k];
-    for (let p = 0; p < this.sumPieces.length; p++) {
-      this.sumPieces[p] += other.sumPieces[p];
-      this.squarePieces[p] += other.squarePieces[p];
+    const drawOffset = other.firstDraw - this.firstDraw;
+    const batchOffset = other.firstBatch - this.firstBatch;
+    if (drawOffset < 0 || drawOffset + other.drawSpan > this.drawSpan) throw new RangeError('cannot merge: the source range lies outside the target range');
+    for (let c = 0; c < 2; c++) {
+      const target = this.status.subarray(c * this.drawSpan, (c + 1) * this.drawSpan);
+      const source = other.status.subarray(c * other.drawSpan, (c + 1) * other.drawSpan);
+      mergeDrawStatus(target, source, drawOffset);
+      for (let s = 0; s < source.length; s++) if (source[s] !== DRAW_NOT_RECORDED) target[drawOffset + s] = source[s];
     }
-    for (let cell = 0; cell < this.minimum.length; cell++) {
-      if (other.minimum[cell] < this.minimum[cell]) this.minimum[cell] = other.minimum[cell];
-      if (other.maximum[cell] > this.maximum[cell]) this.maximum[cell] = other.maximum[cell];
+    const n = this.assets;
+    for (let c = 0; c < 2; c++) {
+      for (let k = 0; k < other.batchSpan; k++) {
+        const from = c * other.batchSpan + k;
+        const into = c * this.batchSpan + batchOffset + k;
+        this.counts[into] += other.counts[from];
+        for (let i = 0; i < n; i++) {
+          const a = into * n + i;
+          const b = from * n + i;
+          for (let level = 0; level < LEVELS; level++) {
+            this.sumPieces[a * LEVELS + level] += other.sumPieces[b * LEVELS + level];
+            this.squarePieces[a * LEVELS + level] += other.squarePieces[b * LEVELS + level];
+          }
+          if (other.minimum[b] < this.minimum[a]) this.minimum[a] = other.minimum[b];
+          if (other.maximum[b] > this.maximum[a]) this.maximum[a] = other.maximum[b];
+        }
+      }
     }
   }
 
+  /**
+   * Writes the draws [start, end) (inside this accumulator's) in the partial wire form: each
+   * channel's per-draw status (1 byte), then per channel and touched batch its count and, per
+   * asset, the 5 + 5 exact-sum pieces, min and max (0 for a cell with no draw). A batch's cells hold
+   * every draw recorded in it, so no draw of a touched batch outside the range may be recorded here.
+   */
+  writeWire(range: SlotRange, cursor: ChannelWireCursor): void {
+    const span = range.end - range.start;
+    const drawOffset = range.start - this.firstDraw;
+    if (drawOffset < 0 || drawOffset + span > this.drawSpan) throw new RangeError(`the wire range ${range.start}..${range.end - 1} lies outside this accumulator's draws`);
+    const first = batchOfDraw(this.draws, this.batches, range.start);
+    const touched = batchOfDraw(this.draws, this.batches, range.end - 1) - first + 1;
+    const batchDrawsFrom = Math.max(this.firstDraw, batchStart(this.draws, this.batches, first));
+    const batchDrawsTo = Math.min(this.firstDraw + this.drawSpan, batchStart(this.draws, this.batches, first + touched));
+    for (let c = 0; c < 2; c++) {
+      for (let b = batchDrawsFrom; b < batchDrawsTo; b++) {
+        const status = this.status[c * this.drawSpan + b - this.firstDraw];
+        const inside = b >= range.start && b < range.end;
+        if (inside && status === DRAW_NOT_RECORDED) throw new Error(`channel accumulator: draw ${b} not recorded`);
+        if (!inside && status !== DRAW_NOT_RECORDED) throw new Error(`channel accumulator: draw ${b} of a batch the range ${range.start}..${range.end - 1} touches is recorded too`);
+        if (inside) cursor.u8[cursor.u8At + c * span + b - range.start] = status;
+      }
+    }
+    cursor.u8At += 2 * span;
+    const n = this.assets;
+    const f64 = cursor.f64;
+    let at = cursor.f64At;
+    for (let c = 0; c < 2; c++) {
+      for (let k = 0; k < touched; k++) {
+        const batchCell = c * this.batchSpan + first - this.firstBatch + k;
+        f64[at++] = this.counts[batchCell];
+        for (let i = 0; i < n; i++) {
+          const cell = batchCell * n + i;
+          for (let level = 0; level < LEVELS; level++) f64[at++] = this.sumPieces[cell * LEVELS + level];
+          for (let level = 0; level < LEVELS; level++) f64[at++] = this.squarePieces[cell * LEVELS + level];
+          f64[at++] = Number.isFinite(this.minimum[cell]) ? this.minimum[cell] : 0;
+          f64[at++] = Number.isFinite(this.maximum[cell]) ? this.maximum[cell] : 0;
+        }
+      }
+    }
+    cursor.f64At = at;
+  }
+
+  /** Doubles and bytes writeWire writes for the draws [start, end) of a request of `draws` over `assets`. */
+  static wireSize(draws: number, assets: number, range: SlotRange): { f64: number; u8: number } {
+    const batches = Math.max(1, batchCount(draws));
+    const touched = batchOfDraw(draws, batches, range.end - 1) - batchOfDraw(draws, batches, range.start) + 1;
+    return { f64: 2 * touched * (1 + assets * (2 * LEVELS + 2)), u8: 2 * (range.end - range.start) };
+  }
+
+  /**
+   * Merges draws [start, end) read from the partial wire form (see writeWire) into this
+   * accumulator, whose draws must include them and hold none of them yet. Exact, so order-free.
+   */
+  readWire(range: SlotRange, cursor: ChannelWireCursor): void {
+    const span = range.end - range.start;
+    const drawOffset = range.start - this.firstDraw;
+    if (drawOffset < 0 || drawOffset + span > this.drawSpan) throw new RangeError('cannot merge: the source range lies outside the target range');
+    for (let c = 0; c < 2; c++) {
+      const target = this.status.subarray(c * this.drawSpan, (c + 1) * this.drawSpan);
+      const source = cursor.u8.subarray(cursor.u8At, cursor.u8At + span);
+      mergeDrawStatus(target, source, drawOffset);
+      for (let s = 0; s < span; s++) if (source[s] !== DRAW_NOT_RECORDED) target[drawOffset + s] = source[s];
+      cursor.u8At += span;
+    }
+    const first = batchOfDraw(this.draws, this.batches, range.start);
+    const touched = batchOfDraw(this.draws, this.batches, range.end - 1) - first + 1;
+    const n = this.assets;
+    const f64 = cursor.f64;
+    let at = cursor.f64At;
+    for (let c = 0; c < 2; c++) {
+      for (let k = 0; k < touched; k++) {
+        const into = c * this.batchSpan + first - this.firstBatch + k;
+        const count = f64[at++];
+        this.counts[into] += count;
+        for (let i = 0; i < n; i++) {
+          const cell = into * n + i;
+          for (let level = 0; level < LEVELS; level++) this.sumPieces[cell * LEVELS + level] += f64[at++];
+          for (let level = 0; level < LEVELS; level++) this.squarePieces[cell * LEVELS + level] += f64[at++];
+          const low = f64[at++];
+          const high = f64[at++];
+          // A cell with no draw carries 0 for its min and max: not a value.
+          if (count > 0) {
+            if (low < this.minimum[cell]) this.minimum[cell] = low;
+            if (high > this.maximum[cell]) this.maximum[cell] = high;
+          }
+        }
+      }
+    }
+    cursor.f64At = at;
+  }
+
   summarize(options: ChannelSummaryOptions = {}): MeanDrivenShareSummary {
+    this.requireWhole('the mean-driven share');
     const n = this.assets;
     const m = this.batches;
     const meanChannelVariance = new Float64Array(n);
@@ -281,6 +427,7 @@ export class ChannelVarianceAccumulator {
    * totals minus group k's exact pieces (both multiples of each grid), so they are exact too.
    */
   leaveOneGroupOutShares(): Float64Array {
+    this.requireWhole('the leave-one-group-out shares');
     const n = this.assets;
     const m = this.batches;
     const out = new Float64Array(m).fill(Number.NaN);
@@ -343,6 +490,7 @@ export class ChannelVarianceAccumulator {
    * asset's min equals its max over all groups).
    */
   effectiveGroups(c: number): number {
+    this.requireWhole('the effective number of groups');
     const n = this.assets;
     const m = this.batches;
     let total = 0;
@@ -392,7 +540,7 @@ export class ChannelVarianceAccumulator {
     let succeeded = 0;
     let failed = 0;
     for (let b = 0; b < this.draws; b++) {
-      const s = this.status[c * this.draws + b];
+      const s = this.status[c * this.drawSpan + b];
       if (s === DRAW_SUCCEEDED) succeeded++;
       else if (s === DRAW_FAILED) failed++;
     }
@@ -400,6 +548,7 @@ export class ChannelVarianceAccumulator {
   }
 
   toState(): ChannelVarianceState {
+    this.requireWhole('the JSON state');
     const empty = (value: number): number => (Number.isFinite(value) ? value : 0);
     return {
       draws: this.draws,

@@ -11,8 +11,9 @@
  *    while the cost model prices 1500 over the work limit. First where one thread's time goes
  *    (validate, plan, draws, report with its outside-band bootstrap and forecast sensitivity) and
  *    the serial share (Amdahl's bound); then wall time with 1, 2 and 4 threads: cold threads (a
- *    fresh pool per run, the old re-planning path too) and warm ones (a pool kept between runs);
- *    then fresh CLI processes, --threads 1 against 2. Goal ≥ 1.6× with 2 threads on 2 cores.
+ *    fresh pool per run: one range each) and warm ones (a pool kept between runs: chunks claimed
+ *    largest first, and for comparison one range each); then fresh CLI processes, --threads 1
+ *    against 2. Goal ≥ 1.6× with 2 threads on 2 cores.
  * 3. Durable Object shards in local workerd (Miniflare over the wrangler bundle): the 2000-asset,
  *    8-factor case with 1, 4 and 8 shards. Local workerd runs every object in one process on one
  *    thread, so this shows that sharding is correct and what it costs (planning in each shard,
@@ -27,8 +28,7 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { Miniflare } from 'miniflare';
-import { RangeThreadPool, threadExecutor, threadRunner } from '../../src/cli/threads.js';
-import { fanOutRunner } from '../../src/scale/runner.js';
+import { RangeThreadPool, threadRunner } from '../../src/cli/threads.js';
 import { PartialMerger } from '../../src/scale/merge.js';
 import { WIRE_FIELDS, type WireCursor } from '../../src/scale/wire-fields.js';
 import { decodePartial, encodePartial } from '../../src/scale/wire.js';
@@ -41,7 +41,6 @@ import { buildReport } from '../../src/stress/report.js';
 import { stressProposal, type DrawRunner } from '../../src/stress/run.js';
 import { forecastSensitivityTables } from '../../src/stress/forecast-sensitivity.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from '../../src/statistics/stability.js';
-import { ChannelVarianceAccumulator } from '../../src/statistics/channel-variance.js';
 import { demoProposal } from '../helpers/proposals.js';
 import { factorCase, threadsCase } from './scale-problems.js';
 
@@ -192,7 +191,7 @@ function accumulatorBytes(acc: StressAccumulators): number {
   let bytes = slots(acc.proposalRiskShares, acc.proposalRiskShares.assets);
   for (const s of [acc.proposalVolatility, acc.proposalReturn, acc.proposalShortfall]) bytes += slots(s, 1);
   for (const m of acc.methods) {
-    bytes += slots(m.weights, m.weights.assets) + 8 * ChannelVarianceAccumulator.storedValues(m.channels.draws, m.channels.assets) + 2 * m.channels.draws;
+    bytes += slots(m.weights, m.weights.assets) + 8 * m.channels.storedValueCount + 2 * m.channels.drawSpan;
     for (const s of [m.turnoverFromProposal, m.turnoverFromBase, m.volatility, m.certaintyEquivalentLoss]) bytes += slots(s, 1);
   }
   return bytes;
@@ -230,19 +229,10 @@ async function threads(): Promise<void> {
   };
   const amdahl = (n: number): number => 1 / (serialShare + (1 - serialShare) / n);
   console.log(`   serial share of the warm CPU time (validate, plan, digest, report) ${(serialShare * 100).toFixed(1)} %: Amdahl bound ${amdahl(2).toFixed(2)}× with 2 threads, ${amdahl(4).toFixed(2)}× with 4 (before thread start-up and merge)`);
-  {
-    const pool = new RangeThreadPool(entry);
-    const planned = planStress(v.proposal, v.warnings);
-    const request = { proposal: v.proposal, draws, seed: planned.seed, start: 0, end: 1 };
-    const first = await measure(() => threadExecutor(pool)(request, { range: { index: 0, start: 0, end: 1 }, attempt: 1, signal: new AbortController().signal, onProgress: () => undefined, plan: planned, inputDigest: '' }));
-    console.log(`   a fresh thread: start, module load, prepare from the shipped plan, 1 draw, partial back: ${(first.wall * 1000).toFixed(0)} ms wall`);
-    await pool.close();
-  }
-
   // Rows. "1 (here)": this thread, warm after its first run (the reference). "2 cold": a fresh
-  // pool every run (a worker thread that loads and compiles everything, as in a fresh CLI process)
-  // — "re-planning" is the path before plan hand-over (each thread solved the base optima again).
-  // "2 warm" / "4 warm": one pool kept across the runs (a long-lived caller), best of the runs.
+  // pool every run (a worker thread that loads and compiles everything, as in a fresh CLI process).
+  // "2 warm" / "4 warm": one pool kept across the runs (a long-lived caller), best of the runs;
+  // "one range each": one contiguous range per thread (chunksPerThread 1) instead of claimed chunks.
   let reference = 0;
   let referenceCpu = 0;
   let expected = '';
@@ -250,10 +240,10 @@ async function threads(): Promise<void> {
   const warmPool4 = new RangeThreadPool(entry);
   const rows: [string, number, () => DrawRunner | undefined][] = [
     ['1 (here)', 1, () => undefined],
-    ['2 cold, re-planning', 2, () => fanOutRunner({ parts: 2, unit: 'thread', execute: threadExecutor(new RangeThreadPool(entry), { shipPlan: false }) })],
-    ['2 cold', 2, () => threadRunner(2, false, entry)],
-    ['2 warm', 2, () => threadRunner(2, false, entry, warmPool2)],
-    ['4 warm', 4, () => threadRunner(4, false, entry, warmPool4)],
+    ['2 cold', 2, () => threadRunner(2, false, { entry })],
+    ['2 warm, one range each', 2, () => threadRunner(2, false, { entry, pool: warmPool2, finestChunk: 1 })],
+    ['2 warm', 2, () => threadRunner(2, false, { entry, pool: warmPool2 })],
+    ['4 warm', 4, () => threadRunner(4, false, { entry, pool: warmPool4 })],
   ];
   for (const [label, threadsUsed, makeRunner] of rows) {
     const times: number[] = [];

@@ -5,6 +5,7 @@ import { UsageError } from '../../src/cli/io.js';
 import { scaleRunner } from '../../src/cli/scale-options.js';
 import { RangeThreadPool, threadRunner } from '../../src/cli/threads.js';
 import { stressProposal } from '../../src/stress/run.js';
+import { RangeCancelledError } from '../../src/scale/errors.js';
 import { valid } from '../scale/helpers.js';
 import { comparable } from '../scale/helpers.js';
 
@@ -33,16 +34,18 @@ describe('wobble --threads', () => {
     const v = valid(historyProposal(60, { resampling: { draws: 30, seed: 'pool' } }));
     const pool = new RangeThreadPool();
     try {
-      const runner = threadRunner(3, false, undefined, pool);
-      // Asked for explicitly, the two worker threads start before any request.
+      const runner = threadRunner(3, false, { pool });
+      // Asked for explicitly, the two worker threads start before any request (cold: one range each).
       expect(pool.idleThreads).toBe(2);
+      expect(pool.warmIdleThreads).toBe(0);
       const expected = comparable(await stressProposal(v.proposal, v.warnings));
       for (let round = 0; round < 2; round++) {
         const report = await stressProposal(v.proposal, v.warnings, { drawRunner: runner });
         expect(report.meta.threads).toBe(3);
         expect(comparable(report)).toBe(expected);
-        // Both threads finished cleanly and wait for the next request.
+        // Both threads finished cleanly and wait for the next request, warm (fine chunks next time).
         expect(pool.idleThreads).toBe(2);
+        expect(pool.warmIdleThreads).toBe(2);
       }
     } finally {
       await pool.close();
@@ -57,4 +60,43 @@ describe('wobble --threads', () => {
     expect(() => scaleRunner({ remote: 'https://example.invalid', shards: '0' })).toThrow(/--shards must be an integer/);
     expect(scaleRunner({ threads: '1' })).toBeUndefined();
   });
+});
+
+describe('worker threads that fail or are cancelled', () => {
+  it('computes on this thread the chunks a failing worker thread could not, and the report is exact', async () => {
+    const v = valid(historyProposal(60, { resampling: { draws: 24, seed: 'failing-thread' } }));
+    const entry = new URL('../fixtures/threads/failing-thread.mjs', import.meta.url);
+    const pool = new RangeThreadPool(entry);
+    try {
+      const report = await stressProposal(v.proposal, v.warnings, { drawRunner: threadRunner(2, false, { pool }) });
+      expect(report.meta.threads).toBe(2);
+      expect(comparable(report)).toBe(comparable(await stressProposal(v.proposal, v.warnings)));
+      // The failed thread was terminated, not put back in the pool.
+      expect(pool.idleThreads).toBe(0);
+    } finally {
+      await pool.close();
+    }
+  }, 60_000);
+
+  it('stops the worker threads when the run is cancelled (no report; the threads are not reused)', async () => {
+    const v = valid(historyProposal(60, { resampling: { draws: 400, seed: 'cancel-threads' } }));
+    const pool = new RangeThreadPool();
+    const controller = new AbortController();
+    try {
+      const runner = threadRunner(3, false, { pool, signal: controller.signal });
+      let seen = 0;
+      const run = stressProposal(v.proposal, v.warnings, {
+        drawRunner: runner,
+        onProgress: (done) => {
+          seen = done;
+          if (done >= 5) controller.abort();
+        },
+      });
+      await expect(run).rejects.toThrow(RangeCancelledError);
+      expect(seen).toBeLessThan(400);
+      expect(pool.idleThreads).toBe(0);
+    } finally {
+      await pool.close();
+    }
+  }, 60_000);
 });

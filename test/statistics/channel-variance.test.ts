@@ -51,6 +51,52 @@ describe('ChannelVarianceAccumulator', () => {
     expect(expected.overallStdErr).toBeLessThan(0.05);
   });
 
+  it('holds only its own batches when sized to a range, and merges and round-trips the wire form exactly', () => {
+    const B = 437;
+    const row = new Float64Array(N);
+    const fill = (acc: ChannelVarianceAccumulator, from: number, to: number): void => {
+      for (let b = from; b < to; b++) {
+        acc.record(b, 'mean-only', rowOf(b, 'mean', 0.1, row));
+        if (b % 40 === 7) acc.recordFailure(b, 'covariance-only');
+        else acc.record(b, 'covariance-only', rowOf(b, 'cov', 0.05, row));
+      }
+    };
+    const whole = new ChannelVarianceAccumulator(B, N);
+    fill(whole, 0, B);
+    // Cuts inside batches (30 batches of 14–15 draws), so batches are split between ranges.
+    const cuts = [0, 20, 21, 250, 437];
+    const merged = new ChannelVarianceAccumulator(B, N);
+    const viaWire = new ChannelVarianceAccumulator(B, N);
+    for (let k = 0; k + 1 < cuts.length; k++) {
+      const range = { start: cuts[k], end: cuts[k + 1] };
+      const part = new ChannelVarianceAccumulator(B, N, range);
+      fill(part, range.start, range.end);
+      // A range's memory: its own draws' status and the batches it touches, not the whole run's.
+      expect(part.storedValueCount).toBeLessThan(whole.storedValueCount);
+      expect(part.batchSpan).toBeLessThanOrEqual(Math.ceil((range.end - range.start) / 14) + 1);
+      expect(() => part.record(range.end % B === 0 ? 0 : range.end, 'mean-only', row)).toThrow(/outside this accumulator's range/);
+      merged.merge(part);
+      const size = ChannelVarianceAccumulator.wireSize(B, N, range);
+      const cursor = { f64: new Float64Array(size.f64), f64At: 0, u8: new Uint8Array(size.u8), u8At: 0 };
+      part.writeWire(range, cursor);
+      expect([cursor.f64At, cursor.u8At]).toEqual([size.f64, size.u8]);
+      cursor.f64At = 0;
+      cursor.u8At = 0;
+      viaWire.readWire(range, cursor);
+    }
+    const expected = whole.summarize();
+    expect(merged.summarize()).toEqual(expected);
+    expect(viaWire.summarize()).toEqual(expected);
+    expect(expected.covarianceChannelFailures).toBe(11);
+    // A range cannot be summarised on its own (its batches are incomplete).
+    const part = new ChannelVarianceAccumulator(B, N, { start: 0, end: 100 });
+    expect(() => part.summarize()).toThrow(/needs the accumulator of every draw/);
+    // A draw recorded twice is refused, by merge and by the wire form alike.
+    const twice = new ChannelVarianceAccumulator(B, N, { start: 0, end: 20 });
+    fill(twice, 0, 20);
+    expect(() => merged.merge(twice)).toThrow(/recorded in both/);
+  });
+
   it('share is exactly 1 when the covariance channel has zero variance and 0 when the mean channel does', () => {
     const B = 200;
     const row = new Float64Array(N);
