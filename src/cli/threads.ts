@@ -226,12 +226,13 @@ export function threadRunner(threads: number, automatic: boolean, options: Threa
       runner.record = { threads: lanes };
       const digest = await inputDigest(proposal);
       // Measured with `npm run bench:scale` (30 assets, 1500 draws, 2 threads on 2 cores): warm
-      // threads finish together on chunks down to 1/32 of a share (1.27 s against 1.39 s with one
-      // range each), but a thread that has not yet compiled its code runs its second and later
-      // chunks much slower (their first draws run as if cold again, a few hundred ms per thread
-      // lost), so in a fresh process one contiguous range per thread is faster (2.40–2.56 s against
-      // 2.72–2.90 s). Cold threads therefore get one range each; they still claim it, so a failed
-      // thread's range is computed again here.
+      // threads finish together on chunks down to 1/32 of a share (best of 5 taking turns: 1.22 s
+      // against 1.27 s with one range each; medians 1.49 s against 1.66 s), but a thread that has
+      // not yet compiled its code runs its second and later chunks much slower (their first draws
+      // run as if cold again, a few hundred ms per thread lost), so in a fresh process one
+      // contiguous range per thread is faster (2.40–2.56 s against 2.72–2.90 s). Cold threads
+      // therefore get one range each; they still claim it, so a failed thread's range is computed
+      // again here.
       const warm = pool.warmIdleThreads >= lanes - 1;
       const chunks = laneChunks(plan.draws, lanes, options.finestChunk ?? (warm ? FINEST_CHUNK_PER_LANE : 1));
       const job = { proposal, draws: plan.draws, seed: plan.seed, inputDigest: digest, solution: plan.solution };

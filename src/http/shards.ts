@@ -4,7 +4,7 @@ import { AUTO_SHARD_WORK, automaticShards, MAX_SHARDS, shardedWorkShares } from 
 import { readPartialResponse } from '../scale/partial-response.js';
 import { describeRange } from '../scale/ranges.js';
 import { computeRange, RangeProposalError, RangeRequestSchema, type RangeComputeOptions } from '../scale/range-job.js';
-import { fanOutRunner, type RangeExecutor } from '../scale/runner.js';
+import { fanOutRunner, interruptibleRunner, type RangeExecutor } from '../scale/runner.js';
 import { PARTIAL_MEDIA_TYPE } from '../scale/wire.js';
 import { problem, problemsFromZod, statusFor } from '../schema/problems.js';
 import { classifyError } from '../stress/errors.js';
@@ -156,7 +156,8 @@ export function durableObjectExecutor(namespace: ShardNamespace): RangeExecutor 
 export function shardRunOptions(request: Request, env: unknown): Pick<RunOptions, 'drawRunner'> {
   const query = new URL(request.url).searchParams.get('shards');
   const namespace = shardNamespace(env);
-  if (query === null && !namespace) return {};
+  // Unsharded, the draws run here in chunks and stop once the client has gone away.
+  if (query === null && !namespace) return { drawRunner: interruptibleRunner(request.signal, yieldToEvents) };
   let shards: number | undefined;
   if (query !== null) {
     shards = Number(query);
@@ -171,6 +172,7 @@ export function shardRunOptions(request: Request, env: unknown): Pick<RunOptions
       unit: 'shard',
       workShares: shardedWorkShares(shards ?? MAX_SHARDS),
       signal: request.signal,
+      pause: yieldToEvents,
     }),
   };
 }
@@ -182,7 +184,11 @@ export function shardProblem(e: unknown): Response | undefined {
     const status: ProblemStatus = e.status in PROBLEM_TITLES ? (e.status as ProblemStatus) : 502;
     return problemResponse(status, e.message);
   }
-  if (e instanceof RangeCancelledError) return problemResponse(409, e.message);
+  if (e instanceof RangeCancelledError) {
+    // The operator's trace of a request that stopped early (its 409 usually reaches no one).
+    console.info(`wobble stress: ${e.message} (its caller went away)`);
+    return problemResponse(409, e.message);
+  }
   return undefined;
 }
 

@@ -31,6 +31,20 @@ export interface KktReport {
   readonly weightScale: number;
 }
 
+/**
+ * Scratch vectors of this module, one per slot, reused while the length stays the same: the KKT
+ * check runs after every solve of every draw, so it must not allocate per call. A slot is used by
+ * one function only, and none of these functions calls itself or another user of its slot.
+ */
+const scratchVectors: Float64Array[] = [];
+const SLOT = { factorLoad: 0, factorTimes: 1, hessianX: 2, residual: 3 } as const;
+
+function scratch(slot: number, n: number): Float64Array {
+  let v = scratchVectors[slot];
+  if (v === undefined || v.length !== n) scratchVectors[slot] = v = new Float64Array(n);
+  return v;
+}
+
 /** out ← H x (dense: scale·M x; factor: λ_f·B(F(Bᵀx)) + λ_s·D x). */
 export function hessianTimes(h: QpHessian, x: Float64Array, out: Float64Array): Float64Array {
   if (h.kind === 'dense') {
@@ -44,9 +58,9 @@ export function hessianTimes(h: QpHessian, x: Float64Array, out: Float64Array): 
     return out;
   }
   const { n, k, loadings: b, factorCov: f, specificVar: d } = h.model;
-  const bx = new Float64Array(k);
+  const bx = scratch(SLOT.factorLoad, k).fill(0);
   for (let i = 0; i < n; i++) for (let a = 0; a < k; a++) bx[a] += b[i * k + a] * x[i];
-  const fbx = new Float64Array(k);
+  const fbx = scratch(SLOT.factorTimes, k);
   for (let a = 0; a < k; a++) {
     let s = 0;
     for (let c = 0; c < k; c++) s += f[a * k + c] * bx[c];
@@ -83,7 +97,7 @@ export function hessianDiagonalMax(h: QpHessian): number {
 
 /** ½xᵀHx − cᵀx. */
 export function qpObjective(problem: QpProblem, x: Float64Array): number {
-  const hx = hessianTimes(problem.hessian, x, new Float64Array(x.length));
+  const hx = hessianTimes(problem.hessian, x, scratch(SLOT.hessianX, x.length));
   let f = 0;
   for (let i = 0; i < x.length; i++) f += x[i] * (0.5 * hx[i] - problem.linear[i]);
   return f;
@@ -93,7 +107,7 @@ export function qpObjective(problem: QpProblem, x: Float64Array): number {
 export function kktReport(problem: QpProblem, x: Float64Array, multipliers: QpMultipliers): KktReport {
   const { constraints, linear } = problem;
   const { n, lower, upper, budget, groups } = constraints;
-  const hx = hessianTimes(problem.hessian, x, new Float64Array(n));
+  const hx = hessianTimes(problem.hessian, x, scratch(SLOT.hessianX, n));
   let gradientScale = 0;
   let weightScale = Math.max(1, Math.abs(budget));
   for (let i = 0; i < n; i++) {
@@ -104,7 +118,7 @@ export function kktReport(problem: QpProblem, x: Float64Array, multipliers: QpMu
   if (!(gradientScale > 0)) gradientScale = 1;
 
   // Stationarity: r = Hx − c − ν1 − Σ ν_g 1_g − z.
-  const r = new Float64Array(n);
+  const r = scratch(SLOT.residual, n);
   for (let i = 0; i < n; i++) r[i] = hx[i] - linear[i] - multipliers.budget - multipliers.bounds[i];
   groups.forEach((g, gi) => {
     const v = multipliers.groups[gi];

@@ -3,7 +3,7 @@ import { LIMITS } from '../schema/limits.js';
 import { validateProposal } from '../schema/validate.js';
 import type { Problem } from '../schema/problems.js';
 import { inputDigest } from '../stress/digest.js';
-import { createAccumulators, planStress, runDraws, type PlanSolution, type StressPlan, type WorkLimits } from '../stress/engine.js';
+import { createAccumulators, planStress, runDraws, type PlanSolution, type StressAccumulators, type StressPlan, type WorkLimits } from '../stress/engine.js';
 import { RangeCancelledError } from './errors.js';
 import { encodePartial } from './wire.js';
 
@@ -93,14 +93,29 @@ async function rangePlan(request: RangeRequest, options: RangeComputeOptions): P
 export async function computeRange(request: RangeRequest, options: RangeComputeOptions = {}): Promise<Uint8Array> {
   const { plan, inputDigest: digest } = await rangePlan(request, options);
   const acc = createAccumulators(plan, { start: request.start, end: request.end });
-  const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : request.end - request.start;
-  for (let from = request.start; from < request.end; from += chunk) {
-    if (options.cancelled?.()) throw new RangeCancelledError(`cancelled after ${from - request.start} of ${request.end - request.start} draws`);
-    const to = Math.min(request.end, from + chunk);
-    const done = from - request.start;
+  await runDrawsInChunks(plan, acc, request, options);
+  return encodePartial(plan, acc, request, digest);
+}
+
+/**
+ * Computes draws [start, end) into `acc`: in one go without `pause`, else in chunks of about a
+ * fifth of a second with a pause between them, stopping with RangeCancelledError ("cancelled after
+ * X of Y draws") at the first pause where `cancelled` says so. The pauses are what let a runtime
+ * deliver a disconnect or a cancel message while draws are being computed.
+ */
+export async function runDrawsInChunks(
+  plan: StressPlan,
+  acc: StressAccumulators,
+  range: { readonly start: number; readonly end: number },
+  options: Pick<RangeComputeOptions, 'pause' | 'cancelled' | 'onProgress'> = {},
+): Promise<void> {
+  const chunk = options.pause ? chunkDraws(plan.workUnits / plan.draws) : range.end - range.start;
+  for (let from = range.start; from < range.end; from += chunk) {
+    if (options.cancelled?.()) throw new RangeCancelledError(`cancelled after ${from - range.start} of ${range.end - range.start} draws`);
+    const to = Math.min(range.end, from + chunk);
+    const done = from - range.start;
     runDraws(plan, from, to, acc, options.onProgress ? (d) => options.onProgress?.(done + d) : undefined);
-    if (options.pause && to < request.end) await options.pause();
+    if (options.pause && to < range.end) await options.pause();
   }
   if (options.cancelled?.()) throw new RangeCancelledError('cancelled');
-  return encodePartial(plan, acc, request, digest);
 }

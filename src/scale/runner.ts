@@ -3,7 +3,7 @@ import { inputDigest } from '../stress/digest.js';
 import { createAccumulators, runDraws, type StressPlan } from '../stress/engine.js';
 import type { DrawRunner } from '../stress/run.js';
 import { fanOut } from './fan-out.js';
-import type { RangeRequest } from './range-job.js';
+import { runDrawsInChunks, type RangeRequest } from './range-job.js';
 import { splitDraws, type DrawRange } from './ranges.js';
 
 /** What an executor knows about the range it computes. */
@@ -37,6 +37,11 @@ export interface FanOutRunnerOptions {
   readonly workShares?: number;
   readonly signal?: AbortSignal;
   readonly retries?: number;
+  /**
+   * When the draws stay here ('here'): pause between chunks of draws and stop once `signal`
+   * aborts (see interruptibleRunner). Without it they run in one synchronous loop.
+   */
+  readonly pause?: () => Promise<void>;
 }
 
 /**
@@ -52,6 +57,7 @@ export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { recor
       const chosen = typeof options.parts === 'number' ? options.parts : options.parts(plan);
       if (chosen === 'here') {
         runner.record = {};
+        if (options.pause && options.signal) return interruptibleRunner(options.signal, options.pause).run(plan, proposal, onProgress);
         const acc = createAccumulators(plan);
         runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
         return acc;
@@ -70,4 +76,26 @@ export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { recor
     },
   };
   return runner;
+}
+
+/**
+ * A DrawRunner that computes every draw on this thread, in chunks of about a fifth of a second with
+ * `pause` between them, and stops with RangeCancelledError ("cancelled after X of B draws") at the
+ * first pause after `signal` aborts — e.g. the HTTP request's signal when its client goes away, so
+ * an unsharded request does not run on to its end for nobody. Same accumulators as one loop;
+ * records nothing in meta.
+ */
+export function interruptibleRunner(signal: AbortSignal, pause: () => Promise<void>): DrawRunner {
+  return {
+    record: {},
+    async run(plan, _proposal, onProgress) {
+      const acc = createAccumulators(plan);
+      await runDrawsInChunks(plan, acc, { start: 0, end: plan.draws }, {
+        pause,
+        cancelled: () => signal.aborted,
+        onProgress: onProgress ? (done) => onProgress(done, plan.draws) : undefined,
+      });
+      return acc;
+    },
+  };
 }

@@ -45,6 +45,28 @@ describe('cancelling ranges (workerd)', () => {
     expect(doneOf(detail)).toBeLessThan(2000);
   });
 
+  it('unsharded POST /v1/stress and POST /v1/check stop at their next chunk when the client goes away', async () => {
+    const proposal = historyProposal(120, { resampling: { draws: 5000, seed: 'workerd-unsharded-cancel' } });
+    // 5000 draws (the limit) of a 4-asset history take over a second here; the client leaves after 0.2 s.
+    const policy = { rules: [{ metric: 'turnover-from-proposal.p50', max: 0.5 }] };
+    for (const [path, body] of [
+      ['/v1/stress', proposal],
+      ['/v1/check', { proposal, policy }],
+    ] as const) {
+      const caller = new AbortController();
+      // Without the Durable Object binding the draws stay in this request (no automatic sharding).
+      const answer = post(path, body, { STRESS_SHARD: undefined }, caller.signal);
+      await new Promise((resolve) => setTimeout(resolve, 200));
+      caller.abort();
+      const res = await answer;
+      expect(res.status, path).toBe(409);
+      const detail = ((await res.json()) as { detail: string }).detail;
+      expect(detail).toMatch(/^cancelled after \d+ of 5000 draws$/);
+      console.info(`${path} unsharded: stopped after ${doneOf(detail)} of 5000 draws`);
+      expect(doneOf(detail)).toBeLessThan(5000);
+    }
+  });
+
   it('POST /v1/stress/range through the runtime: once the caller aborts, no further chunk runs', async () => {
     // SELF is the Worker behind a service binding, so aborting the fetch is a real cancelled
     // request to workerd (not a signal handed to the app). workerd then drops the invocation at

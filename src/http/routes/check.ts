@@ -2,8 +2,10 @@ import { CheckRequestSchema } from '../../schema/check.js';
 import { problem, problemsFromZod } from '../../schema/problems.js';
 import { validateProposal } from '../../schema/validate.js';
 import { resolveBaseline } from '../../stress/baseline.js';
+import { interruptibleRunner } from '../../scale/runner.js';
 import { checkProposal } from '../../stress/run.js';
 import { readJsonBody } from '../body.js';
+import { yieldToEvents } from '../shards.js';
 import { bodyProblem, clock, invalid, prefixProblem, runCore } from '../respond.js';
 import type { RouteDefinition } from '../route.js';
 
@@ -19,7 +21,7 @@ export const checkRoute: RouteDefinition = {
   cache: 'noStore',
   requestBody: { component: 'CheckRequest', description: 'The proposal, optional gate rules (default: proposal.policy) and an optional baseline.' },
   success: { description: 'The report with its verdict (`verdict.pass` says whether the gate passed).', content: { 'application/json': { component: 'Report' } } },
-  problems: [400, 413, 422],
+  problems: [400, 409, 413, 422],
   handle: async (c, config) => {
     const body = await readJsonBody(c.req.raw);
     if (!body.ok) return bodyProblem(body);
@@ -36,7 +38,9 @@ export const checkRoute: RouteDefinition = {
         if (!resolved.ok) return invalid(resolved.problems);
         baseline = resolved.baseline;
       }
-      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, { clock, maxWork: config.maxWork }));
+      // The draws run in chunks and stop once the client has gone away (409; see README "Cancellation").
+      const drawRunner = interruptibleRunner(c.req.raw.signal, yieldToEvents);
+      return c.json(await checkProposal(validation.proposal, validation.warnings, policy, baseline, { clock, maxWork: config.maxWork, drawRunner }));
     });
   },
 };
