@@ -6,7 +6,11 @@
  * for it). 1.0 is honest; the goal is 0.8–1.2. A ratio estimated from K seeds has its own noise:
  * the sd of K values has a relative sd of about 1/√(2(K−1)) (normal theory), printed beside it.
  * Figures whose error is exactly 0 in every seed and whose value never moves are counted as
- * "exact" (point masses); a figure with stdErr 0 that does move is flagged.
+ * "exact" (point masses); a figure with stdErr 0 that does move is flagged. A figure that never
+ * moves (beyond rounding: spread ≤ 1e-12 × its size) but reports an error > 0 has no readable
+ * ratio (it would be 0 whatever the error) and is counted as "still", with its largest mean
+ * error: a percentile on a point mass that a rare rerun leaves (full Kelly's
+ * certainty-equivalent-loss median on D1) rightly reports a tiny error that 150 seeds never see.
  *
  * It also runs the gate itself (`judge`, as `check` does) on rules placed exactly at the true
  * value, 95 % confidence, and prints how often they fail (false fails; goal ≤ 6 %): `max` rules,
@@ -130,13 +134,20 @@ interface KindRow {
   figures: number;
   exact: number;
   flagged: number;
+  /** Figures that never moved in K seeds (beyond rounding) but report an error > 0. */
+  still: number;
+  /** The largest such mean error. */
+  stillLargest: number;
   ratios: number[];
 }
+
+/** A spread across seeds at most this times the figure's size is rounding, not a move. */
+const STILL_RELATIVE_SPREAD = 1e-12;
 
 function ratioRows(samples: Samples): KindRow[] {
   const rows: KindRow[] = [];
   for (const [kind, byId] of samples) {
-    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, ratios: [] };
+    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, still: 0, stillLargest: 0, ratios: [] };
     for (const [id, list] of byId) {
       row.figures++;
       const errors = list.map((s) => s.stdErr);
@@ -144,7 +155,12 @@ function ratioRows(samples: Samples): KindRow[] {
         row.flagged++;
         continue;
       }
-      const spread = sd(list.map((s) => s.value));
+      const values = list.map((s) => s.value);
+      const rawSpread = sd(values);
+      // A spread of rounding only (the same corner portfolio's figure computed along different
+      // rounding paths differs in its last bits) is no move.
+      const scale = Math.max(...values.map(Math.abs));
+      const spread = rawSpread <= STILL_RELATIVE_SPREAD * scale ? 0 : rawSpread;
       const meanError = mean(errors as number[]);
       if (meanError === 0) {
         if (spread === 0) row.exact++;
@@ -152,8 +168,11 @@ function ratioRows(samples: Samples): KindRow[] {
         continue;
       }
       if (spread === 0) {
-        // Never moves, yet an error is reported: counted as a ratio of 0.
-        row.ratios.push(0);
+        // Never moved in K seeds, yet an error is reported: no ratio can be read (any error > 0
+        // gives 0), so it is counted apart with its size. A tiny error is honest for a figure
+        // that leaves a point mass only in a rare rerun (pointMassStdErr).
+        row.still++;
+        if (meanError > row.stillLargest) row.stillLargest = meanError;
         continue;
       }
       const ratio = spread / meanError;
@@ -388,7 +407,8 @@ async function main(): Promise<void> {
           : `${quantile(sorted, 0.5).toFixed(2).padStart(12)}   [${quantile(sorted, 0.1).toFixed(2)} – ${quantile(sorted, 0.9).toFixed(2)}]`.padEnd(34) +
             `${sorted[0].toFixed(2)} – ${sorted[sorted.length - 1].toFixed(2)}`.padEnd(16) +
             `${within}/${sorted.length}`.padStart(8);
-      console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}`);
+      const still = row.still > 0 ? `   still ${row.still} (mean se ≤ ${row.stillLargest.toExponential(1)})` : '';
+      console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}${still}`);
     }
     const rate = (metric: GateMetric, kind: string): string => `${((100 * (fails.get(`${metric}|${kind}`) ?? 0)) / K).toFixed(1).padStart(5)} %`;
     console.log(

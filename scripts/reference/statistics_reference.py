@@ -8,7 +8,9 @@ Writes test/reference/fixtures/statistics.json with:
   moments         mean and sample sd (numpy, ddof=1) and sd/sqrt(n)
   batchMeans      Monte Carlo errors computed the documented way (src/statistics/batch-means.ts):
                   percentiles by the order-statistic interval s*(Q(q+z s) - Q(q-z s))/(hi-lo),
-                  s = sqrt(q(1-q)/n), with numpy.quantile; band widths with the asymptotic
+                  s = sqrt(q(1-q)/n), with numpy.quantile, and where the draws in that interval are
+                  tied the exact bootstrap sd of the order statistic (scipy.stats.binom; 0 when
+                  tied over q -/+ 7 s); band widths with the asymptotic
                   quantile correlation; sds by the delta method; failed draws (NaN) excluded
   weights         a whole WeightAccumulator summary recomputed with numpy
   channels        mean-driven shares from numpy.var(ddof=1), including a badly conditioned case
@@ -25,7 +27,7 @@ import os
 
 import numpy as np
 import scipy
-from scipy.stats import percentileofscore
+from scipy.stats import binom, percentileofscore
 
 Z = 1.959963984540054
 PROBS = [0.0, 0.05, 0.25, 0.5, 0.75, 0.95, 1.0, 0.1234, 0.9999]
@@ -47,20 +49,39 @@ def batch_bounds(B, m):
     return [(k * B // m, (k + 1) * B // m) for k in range(m)]
 
 
+def bootstrap_order_stat_sd(x, r):
+    """Exact bootstrap sd of the r-th smallest of the sorted x (Maritz & Jarrett 1978):
+    P(X*_(r) <= x_(i)) = P(Binomial(n, i/n) >= r), every position counted."""
+    n = len(x)
+    w = np.diff(binom.sf(r - 1, n, np.arange(0, n + 1) / n))
+    mean = np.sum(w * x)
+    return math.sqrt(max(0.0, float(np.sum(w * (x - mean) ** 2))))
+
+
 def order_stat_se(x, q):
     x = np.sort(x[np.isfinite(x)])
     n = len(x)
     if n < 2:
         return float('nan')
     s = math.sqrt(q * (1 - q) / n)
-    # Widened over ties (1.96, 3, 4, 5, 7 sds of rank); 0 only when all are tied.
-    for k in (Z, 3, 4, 5, 7):
-        lo = max(0.0, q - k * s)
-        hi = min(1.0, q + k * s)
-        width = float(np.quantile(x, hi, method='linear') - np.quantile(x, lo, method='linear'))
-        if width > 0:
-            return s * width / (hi - lo)
-    return 0.0
+    lo = max(0.0, q - Z * s)
+    hi = min(1.0, q + Z * s)
+    width = float(np.quantile(x, hi, method='linear') - np.quantile(x, lo, method='linear'))
+    if width > 0:
+        return s * width / (hi - lo)
+    if s == 0:
+        return 0.0
+    # Tied over the ~95 % interval (a point mass): 0 when tied over q -/+ 7 s of rank, else the
+    # exact bootstrap sd of the order statistic(s) the type-7 percentile interpolates.
+    first = max(1, math.ceil(n * (q - 7 * s)))
+    last = min(n, math.floor(n * (q + 7 * s)) + 1)
+    if x[first - 1] == x[last - 1]:
+        return 0.0
+    h = (n - 1) * q
+    j = math.floor(h)
+    g = h - j
+    a = bootstrap_order_stat_sd(x, j + 1)
+    return a if g == 0 or j + 1 >= n else (1 - g) * a + g * bootstrap_order_stat_sd(x, j + 2)
 
 
 def jackknife_se(loo):

@@ -2,6 +2,8 @@ import type { MethodName, MethodSpec, Policy, PolicyRule } from '../schema/propo
 import { counterpartIndex } from './paired.js';
 import type { Report, Verdict } from '../schema/report.js';
 import { normalQuantile } from '../statistics/normal-quantile.js';
+import { studentTQuantile } from '../statistics/student-t-quantile.js';
+import { batchCount } from '../statistics/batch-means.js';
 import { hasDrawBound, isPercentileMetric, isSimultaneousMetric, type FigureBoundSource } from './gate-bounds.js';
 
 /** A report figure with its Monte Carlo standard error. */
@@ -12,6 +14,31 @@ export interface MetricEstimate {
   /** The method the figure belongs to and its index in the report (absent for the proposal-level volatility band width). */
   readonly spec?: MethodSpec;
   readonly index?: number;
+  /**
+   * Degrees of freedom of stdErr when it is estimated from few groups (the mean-driven share's
+   * jackknife over m groups: m − 1); its bounds then use Student's t instead of the normal.
+   */
+  readonly degreesOfFreedom?: number;
+}
+
+/**
+ * Degrees of freedom of the mean-driven share's jackknife error: its m = batchCount(B) groups of
+ * draws give m − 1 (undefined below 2 groups, where the error is the 0.5 bound).
+ */
+export function shareErrorDegreesOfFreedom(drawsRequested: number): number | undefined {
+  const groups = batchCount(drawsRequested);
+  return groups >= 2 ? groups - 1 : undefined;
+}
+
+/**
+ * The one-sided quantile a smooth figure's bound uses at `confidence`: Φ⁻¹, or — for an error
+ * estimated from few groups — Student's t with its degrees of freedom. A jackknife over m groups
+ * estimates the variance with m − 1 degrees of freedom, so (value − truth)/se is t- rather than
+ * normally distributed (Tukey's jackknife interval; e.g. Efron & Tibshirani 1993, An Introduction
+ * to the Bootstrap, §11.5; from memory): at 200 draws (20 groups) t = 1.729 against z = 1.645.
+ */
+function boundQuantile(confidence: number, est: MetricEstimate): number {
+  return est.degreesOfFreedom === undefined ? normalQuantile(confidence) : studentTQuantile(confidence, est.degreesOfFreedom);
 }
 
 type ReportBody = Omit<Report, 'verdict'>;
@@ -40,8 +67,10 @@ export function metricOf(
       return of(m.turnoverFromProposal.mean, m.turnoverFromProposal.stdErr);
     case 'outside-band-share':
       return of(m.outsideBandShare.value, m.outsideBandShare.stdErr);
-    case 'mean-driven-share':
-      return of(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr);
+    case 'mean-driven-share': {
+      const degreesOfFreedom = shareErrorDegreesOfFreedom(report.meta.drawsRequested);
+      return { ...of(m.meanDrivenShare.overall, m.meanDrivenShare.stdErr), ...(degreesOfFreedom === undefined ? {} : { degreesOfFreedom }) };
+    }
     case 'max-weight-sd':
       return of(m.maxWeightSd.value, m.maxWeightSd.stdErr);
     case 'forecast-break-even-std-errs': {
@@ -123,18 +152,19 @@ function boundOf(metric: PolicyRule['metric'], est: MetricEstimate, side: 'lower
     return { bound: b.bound, words: `with ${percent(confidence)} confidence for all assets at once, the largest weight sd is ${atLeast} ${fmt(b.bound)}`, note: '' };
   }
   if (est.stdErr === null) return { bound: est.value, words: `it is ${fmt(est.value)}`, note: NOT_ESTIMABLE };
-  // confidence = 1 − alpha, passed as given so z is the policy's own Φ⁻¹(confidence).
-  const z = normalQuantile(confidence);
+  // confidence = 1 − alpha, passed as given so z is the policy's own Φ⁻¹(confidence) (or t).
+  const z = boundQuantile(confidence, est);
   if (metric === 'mean-driven-share' && est.value > 0 && est.value < 1 && est.stdErr > 0) {
     // A share confined to (0, 1): bounded on the logit scale, se_logit = se / (v(1 − v)) (delta
     // method), then mapped back — the usual interval for a proportion near its ends (e.g. Agresti,
     // Categorical Data Analysis, 3rd ed. 2013, §1.4; from memory). On the natural scale the error
     // shrinks as the share nears 1, so value − z·se failed a max rule at the truth 8.5 % of the
-    // time (demo, 200 draws, K = 200; DEVELOPERS.md).
+    // time (demo, 200 draws, K = 200; DEVELOPERS.md). The quantile is Student's t with the
+    // jackknife's m − 1 degrees of freedom (boundQuantile).
     const v = est.value;
     const logit = Math.log(v / (1 - v)) + sign * z * (est.stdErr / (v * (1 - v)));
     const bound = 1 / (1 + Math.exp(-logit));
-    return { bound, words: `with ${percent(confidence)} confidence it is ${atLeast} ${fmt(bound)} (logit scale, value ${side === 'lower' ? '−' : '+'} ${fmt(z)} × se)`, note: '' };
+    return { bound, words: `with ${percent(confidence)} confidence it is ${atLeast} ${fmt(bound)} (logit scale, value ${side === 'lower' ? '−' : '+'} ${fmt(z)} × se${est.degreesOfFreedom === undefined ? '' : `, Student t with ${est.degreesOfFreedom} degrees of freedom`})`, note: '' };
   }
   const bound = est.value + sign * z * est.stdErr;
   const note = hasDrawBound(metric) && source === undefined ? NO_RUN_DATA : '';
@@ -181,7 +211,6 @@ export function judge(
 ): Verdict {
   const confidence = policy.confidence;
   const alpha = 1 - confidence;
-  const z = normalQuantile(confidence);
   const rules = policy.rules.map((rule, i) => {
     const method = rule.method ?? report.proposal.method.name;
     const id = rule.id ?? `${rule.metric}${rule.method ? `@${rule.method}` : ''}`;
@@ -246,7 +275,9 @@ export function judge(
           `the largest allowed increase is ${fmt(limit)}: ${pass ? 'pass' : 'FAIL'}${noted(notes)}.`,
       };
     }
-    const bound = se === null ? increase : increase - z * se;
+    // The mean-driven share's paired error is the jackknife of the difference over the same
+    // groups: the same degrees of freedom (boundQuantile).
+    const bound = se === null ? increase : increase - boundQuantile(confidence, est) * se;
     const pass = !(bound > limit);
     return {
       ...common,

@@ -5,6 +5,7 @@ import { checkProposal, stressProposal, stressRun } from '../../src/stress/run.j
 import { judge, PolicyError } from '../../src/stress/verdict.js';
 import { figureBoundsOf } from '../../src/stress/gate-bounds.js';
 import { normalQuantile } from '../../src/statistics/normal-quantile.js';
+import { studentTQuantile } from '../../src/statistics/student-t-quantile.js';
 import { historyProposal } from '../helpers/proposals.js';
 
 async function report() {
@@ -57,14 +58,18 @@ describe('judge', () => {
     expect(same.pass).toBe(true);
   });
 
-  it('bounds the mean-driven share on the logit scale, inside (0, 1) and wider towards the middle', async () => {
+  it('bounds the mean-driven share on the logit scale with Student t on the jackknife groups, inside (0, 1) and wider towards the middle', async () => {
     const r = await report();
     const k = r.methods.findIndex((m) => m.meanDrivenShare.overall > 0 && m.meanDrivenShare.overall < 1 && (m.meanDrivenShare.stdErr ?? 0) > 0);
     expect(k).toBeGreaterThanOrEqual(0);
     const m = r.methods[k];
     const v = m.meanDrivenShare.overall;
     const se = m.meanDrivenShare.stdErr as number;
-    const z = normalQuantile(0.95);
+    // The jackknife error comes from m = min(30, ⌊B/10⌋) groups: m − 1 degrees of freedom, so the
+    // quantile is Student's t (checked against scipy.stats.t in test/reference), above Φ⁻¹.
+    const groups = Math.min(30, Math.floor(r.meta.drawsRequested / 10));
+    const z = studentTQuantile(0.95, groups - 1);
+    expect(z).toBeGreaterThan(normalQuantile(0.95));
     const policy = PolicySchema.parse({ rules: [{ metric: 'mean-driven-share', method: m.method.name, max: 0.5 }, { metric: 'mean-driven-share', method: m.method.name, min: 0.5 }] });
     const verdict = judge(r, policy);
     // Delta method on logit(v): se_logit = se / (v(1 − v)); bounds expit(logit v ∓ z·se_logit) (Agresti 2013, §1.4; from memory).
@@ -74,6 +79,7 @@ describe('judge', () => {
     expect(verdict.rules[1].bound).toBeCloseTo(expit(logit + (z * se) / (v * (1 - v))), 14);
     for (const rule of verdict.rules) expect(rule.bound > 0 && rule.bound < 1).toBe(true);
     expect(verdict.rules[0].message).toMatch(/logit scale/);
+    expect(verdict.rules[0].message).toContain(`Student t with ${groups - 1} degrees of freedom`);
   });
 
   it('reports the bound it judged on: value − z·se for a max rule, value + z·se for a min rule', async () => {
