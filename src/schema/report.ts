@@ -187,7 +187,7 @@ export const VerdictRuleSchema = z.strictObject({
   bound: z
     .number()
     .describe(
-      "The one-sided confidence bound at the policy's confidence that the rule is judged on: for max and maxIncrease the lower bound (the rule fails when it exceeds the threshold), for min the upper bound (fails when below). value ∓ z·stdErr for smooth figures; for outside-band-share and max-weight-sd a bound over all assets at once, for turnover-from-proposal.p50 and volatility-band-width order statistics of the draws (see meta.monteCarloError); the value itself when the error cannot be estimated.",
+      "The one-sided confidence bound at the policy's confidence that the rule is judged on: for max and maxIncrease the lower bound (the rule fails when it exceeds the threshold), for min the upper bound (fails when below). value ∓ z·stdErr for smooth figures (for mean-driven-share on the logit scale, with Student's t on the jackknife's groups − 1 degrees of freedom in place of z); for outside-band-share and max-weight-sd a bound over all assets at once, for turnover-from-proposal.p50 and volatility-band-width order statistics of the draws (see meta.monteCarloError); the value itself when the error cannot be estimated.",
     ),
   threshold: z.number(),
   kind: z.enum(['max', 'min', 'maxIncrease']),
