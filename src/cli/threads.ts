@@ -226,8 +226,8 @@ export function threadRunner(threads: number, automatic: boolean, options: Threa
       runner.record = { threads: lanes };
       const digest = await inputDigest(proposal);
       // Measured with `npm run bench:scale` (30 assets, 1500 draws, 2 threads on 2 cores): warm
-      // threads finish together on chunks down to 1/32 of a share (best of 5 taking turns: 1.22 s
-      // against 1.27 s with one range each; medians 1.49 s against 1.66 s), but a thread that has
+      // threads finish together on chunks down to 1/32 of a share (best of 5 taking turns, quiet
+      // machine: 1.01 s against 1.08 s with one range each), but a thread that has
       // not yet compiled its code runs its second and later chunks much slower (their first draws
       // run as if cold again, a few hundred ms per thread lost), so in a fresh process one
       // contiguous range per thread is faster (2.40–2.56 s against 2.72–2.90 s). Cold threads
