@@ -19,11 +19,10 @@ export const MAX_DEFAULT_THREADS = 8;
 /**
  * Below this estimated work the default splits nothing: starting a thread (module load, JIT
  * warm-up of a cold thread: about 0.4 s wall on the 2-core development machine) costs more than it
- * saves. Measured with `npm run bench:scale` (fresh CLI processes on the built package, best of 3):
- * the 30-asset, six-method, 1500-draw history, priced 7.7e9 units, took 2.44 s with --threads 1
- * and 2.09 s with --threads 2 (best of 5, quiet machine); the demo at 500 draws, priced 1.4e9, is
- * faster on one thread. So the
- * default splits from 5e9 units (a couple of seconds of one core). From TypeScript sources every
+ * saves. Measured with `npm run bench:scale` (fresh CLI processes on the built package, best of
+ * 5, quiet machine): the 30-asset, six-method, 1500-draw history, priced 7.7e9 units, took 2.44 s
+ * with --threads 1 and 2.09 s with --threads 2; the demo at 500 draws, priced 1.4e9, is faster on
+ * one thread. So the default splits from 5e9 units (a couple of seconds of one core). From TypeScript sources every
  * thread also starts tsx and compiles the core (seconds), so there the default waits for ten
  * times as much. An explicit --threads N always splits.
  */
