@@ -101,16 +101,13 @@ export interface ChannelWireCursor {
   u8At: number;
 }
 
-/** JSON-safe state of a whole-run accumulator (min/max hold 0 where a cell has no draw yet). */
-export interface ChannelVarianceState {
-  readonly draws: number;
-  readonly assets: number;
-  readonly status: number[];
-  readonly counts: number[];
-  readonly sumPieces: number[];
-  readonly squarePieces: number[];
-  readonly minimum: number[];
-  readonly maximum: number[];
+/** Doubles per asset of a batch cell on the wire: 5 + 5 exact-sum pieces, min, max. */
+const WIRE_CELL_VALUES = 2 * LEVELS + 2;
+
+/** The batches the draws [start, end) touch: the first and how many. */
+function touchedBatches(draws: number, batches: number, range: SlotRange): { first: number; touched: number } {
+  const first = batchOfDraw(draws, batches, range.start);
+  return { first, touched: batchOfDraw(draws, batches, range.end - 1) - first + 1 };
 }
 
 export class ChannelVarianceAccumulator {
@@ -223,32 +220,13 @@ export class ChannelVarianceAccumulator {
     if (other.draws !== this.draws || other.assets !== this.assets) {
       throw new RangeError('cannot merge channel-variance accumulators of different shapes');
     }
-    const drawOffset = other.firstDraw - this.firstDraw;
-    const batchOffset = other.firstBatch - this.firstBatch;
-    if (drawOffset < 0 || drawOffset + other.drawSpan > this.drawSpan) throw new RangeError('cannot merge: the source range lies outside the target range');
-    for (let c = 0; c < 2; c++) {
-      const target = this.status.subarray(c * this.drawSpan, (c + 1) * this.drawSpan);
-      const source = other.status.subarray(c * other.drawSpan, (c + 1) * other.drawSpan);
-      mergeDrawStatus(target, source, drawOffset);
-      for (let s = 0; s < source.length; s++) if (source[s] !== DRAW_NOT_RECORDED) target[drawOffset + s] = source[s];
-    }
-    const n = this.assets;
-    for (let c = 0; c < 2; c++) {
-      for (let k = 0; k < other.batchSpan; k++) {
-        const from = c * other.batchSpan + k;
-        const into = c * this.batchSpan + batchOffset + k;
-        this.counts[into] += other.counts[from];
-        for (let i = 0; i < n; i++) {
-          const a = into * n + i;
-          const b = from * n + i;
-          for (let level = 0; level < LEVELS; level++) {
-            this.sumPieces[a * LEVELS + level] += other.sumPieces[b * LEVELS + level];
-            this.squarePieces[a * LEVELS + level] += other.squarePieces[b * LEVELS + level];
-          }
-          if (other.minimum[b] < this.minimum[a]) this.minimum[a] = other.minimum[b];
-          if (other.maximum[b] > this.maximum[a]) this.maximum[a] = other.maximum[b];
-        }
-      }
+    const range = { start: other.firstDraw, end: other.firstDraw + other.drawSpan };
+    for (let c = 0; c < 2; c++) this.mergeStatus(range, other.status.subarray(c * other.drawSpan, (c + 1) * other.drawSpan), c);
+    const cellValues = this.assets * LEVELS;
+    for (let from = 0; from < 2 * other.batchSpan; from++) {
+      const c = from < other.batchSpan ? 0 : 1;
+      const into = c * this.batchSpan + other.firstBatch + (from - c * other.batchSpan) - this.firstBatch;
+      this.addBatchCell(into, other.counts[from], other.sumPieces.subarray(from * cellValues), other.squarePieces.subarray(from * cellValues), other.minimum, other.maximum, from * this.assets);
     }
   }
 
@@ -260,10 +238,8 @@ export class ChannelVarianceAccumulator {
    */
   writeWire(range: SlotRange, cursor: ChannelWireCursor): void {
     const span = range.end - range.start;
-    const drawOffset = range.start - this.firstDraw;
-    if (drawOffset < 0 || drawOffset + span > this.drawSpan) throw new RangeError(`the wire range ${range.start}..${range.end - 1} lies outside this accumulator's draws`);
-    const first = batchOfDraw(this.draws, this.batches, range.start);
-    const touched = batchOfDraw(this.draws, this.batches, range.end - 1) - first + 1;
+    if (range.start < this.firstDraw || range.end > this.firstDraw + this.drawSpan) throw new RangeError(`the wire range ${range.start}..${range.end - 1} lies outside this accumulator's draws`);
+    const { first, touched } = touchedBatches(this.draws, this.batches, range);
     const batchDrawsFrom = Math.max(this.firstDraw, batchStart(this.draws, this.batches, first));
     const batchDrawsTo = Math.min(this.firstDraw + this.drawSpan, batchStart(this.draws, this.batches, first + touched));
     for (let c = 0; c < 2; c++) {
@@ -297,9 +273,8 @@ export class ChannelVarianceAccumulator {
 
   /** Doubles and bytes writeWire writes for the draws [start, end) of a request of `draws` over `assets`. */
   static wireSize(draws: number, assets: number, range: SlotRange): { f64: number; u8: number } {
-    const batches = Math.max(1, batchCount(draws));
-    const touched = batchOfDraw(draws, batches, range.end - 1) - batchOfDraw(draws, batches, range.start) + 1;
-    return { f64: 2 * touched * (1 + assets * (2 * LEVELS + 2)), u8: 2 * (range.end - range.start) };
+    const { touched } = touchedBatches(draws, Math.max(1, batchCount(draws)), range);
+    return { f64: 2 * touched * (1 + assets * WIRE_CELL_VALUES), u8: 2 * (range.end - range.start) };
   }
 
   /**
@@ -308,40 +283,68 @@ export class ChannelVarianceAccumulator {
    */
   readWire(range: SlotRange, cursor: ChannelWireCursor): void {
     const span = range.end - range.start;
-    const drawOffset = range.start - this.firstDraw;
-    if (drawOffset < 0 || drawOffset + span > this.drawSpan) throw new RangeError('cannot merge: the source range lies outside the target range');
     for (let c = 0; c < 2; c++) {
-      const target = this.status.subarray(c * this.drawSpan, (c + 1) * this.drawSpan);
-      const source = cursor.u8.subarray(cursor.u8At, cursor.u8At + span);
-      mergeDrawStatus(target, source, drawOffset);
-      for (let s = 0; s < span; s++) if (source[s] !== DRAW_NOT_RECORDED) target[drawOffset + s] = source[s];
+      this.mergeStatus(range, cursor.u8.subarray(cursor.u8At, cursor.u8At + span), c);
       cursor.u8At += span;
     }
-    const first = batchOfDraw(this.draws, this.batches, range.start);
-    const touched = batchOfDraw(this.draws, this.batches, range.end - 1) - first + 1;
+    const { first, touched } = touchedBatches(this.draws, this.batches, range);
     const n = this.assets;
-    const f64 = cursor.f64;
-    let at = cursor.f64At;
+    // Per cell on the wire: 5 sum pieces, 5 square pieces, min, max (WIRE_CELL_VALUES); cell i of a
+    // batch starts at 1 + i·WIRE_CELL_VALUES after the batch's count.
     for (let c = 0; c < 2; c++) {
       for (let k = 0; k < touched; k++) {
-        const into = c * this.batchSpan + first - this.firstBatch + k;
-        const count = f64[at++];
-        this.counts[into] += count;
-        for (let i = 0; i < n; i++) {
-          const cell = into * n + i;
-          for (let level = 0; level < LEVELS; level++) this.sumPieces[cell * LEVELS + level] += f64[at++];
-          for (let level = 0; level < LEVELS; level++) this.squarePieces[cell * LEVELS + level] += f64[at++];
-          const low = f64[at++];
-          const high = f64[at++];
-          // A cell with no draw carries 0 for its min and max: not a value.
-          if (count > 0) {
-            if (low < this.minimum[cell]) this.minimum[cell] = low;
-            if (high > this.maximum[cell]) this.maximum[cell] = high;
-          }
-        }
+        const at = cursor.f64At;
+        const row = cursor.f64.subarray(at + 1, at + 1 + n * WIRE_CELL_VALUES);
+        this.addWireBatchCell(c * this.batchSpan + first - this.firstBatch + k, cursor.f64[at], row);
+        cursor.f64At = at + 1 + n * WIRE_CELL_VALUES;
       }
     }
-    cursor.f64At = at;
+  }
+
+  /** Records channel c's statuses of the draws [start, end) (`source`, one byte a draw), refusing a draw held twice. */
+  private mergeStatus(range: SlotRange, source: Uint8Array, c: number): void {
+    const drawOffset = range.start - this.firstDraw;
+    if (drawOffset < 0 || drawOffset + source.length > this.drawSpan) throw new RangeError('cannot merge: the source range lies outside the target range');
+    const target = this.status.subarray(c * this.drawSpan, (c + 1) * this.drawSpan);
+    mergeDrawStatus(target, source, drawOffset);
+    for (let s = 0; s < source.length; s++) if (source[s] !== DRAW_NOT_RECORDED) target[drawOffset + s] = source[s];
+  }
+
+  /**
+   * Adds one batch cell of another accumulator: its count, the exact pieces of its N assets (from
+   * `sums`/`squares`, N·LEVELS values each) and the min/max at `extremaAt` of `low`/`high`.
+   */
+  private addBatchCell(into: number, count: number, sums: Float64Array, squares: Float64Array, low: Float64Array, high: Float64Array, extremaAt: number): void {
+    this.counts[into] += count;
+    const n = this.assets;
+    for (let i = 0; i < n; i++) {
+      const cell = into * n + i;
+      for (let level = 0; level < LEVELS; level++) {
+        this.sumPieces[cell * LEVELS + level] += sums[i * LEVELS + level];
+        this.squarePieces[cell * LEVELS + level] += squares[i * LEVELS + level];
+      }
+      if (low[extremaAt + i] < this.minimum[cell]) this.minimum[cell] = low[extremaAt + i];
+      if (high[extremaAt + i] > this.maximum[cell]) this.maximum[cell] = high[extremaAt + i];
+    }
+  }
+
+  /** Adds one batch cell read from the wire (count, then per asset WIRE_CELL_VALUES values). */
+  private addWireBatchCell(into: number, count: number, row: Float64Array): void {
+    this.counts[into] += count;
+    const n = this.assets;
+    for (let i = 0; i < n; i++) {
+      const cell = into * n + i;
+      const at = i * WIRE_CELL_VALUES;
+      for (let level = 0; level < LEVELS; level++) {
+        this.sumPieces[cell * LEVELS + level] += row[at + level];
+        this.squarePieces[cell * LEVELS + level] += row[at + LEVELS + level];
+      }
+      // A cell with no draw carries 0 for its min and max: not a value.
+      if (count > 0) {
+        if (row[at + 2 * LEVELS] < this.minimum[cell]) this.minimum[cell] = row[at + 2 * LEVELS];
+        if (row[at + 2 * LEVELS + 1] > this.maximum[cell]) this.maximum[cell] = row[at + 2 * LEVELS + 1];
+      }
+    }
   }
 
   summarize(options: ChannelSummaryOptions = {}): MeanDrivenShareSummary {
@@ -545,47 +548,6 @@ export class ChannelVarianceAccumulator {
       else if (s === DRAW_FAILED) failed++;
     }
     return { succeeded, failed };
-  }
-
-  toState(): ChannelVarianceState {
-    this.requireWhole('the JSON state');
-    const empty = (value: number): number => (Number.isFinite(value) ? value : 0);
-    return {
-      draws: this.draws,
-      assets: this.assets,
-      status: Array.from(this.status),
-      counts: Array.from(this.counts),
-      sumPieces: Array.from(this.sumPieces),
-      squarePieces: Array.from(this.squarePieces),
-      minimum: Array.from(this.minimum, empty),
-      maximum: Array.from(this.maximum, empty),
-    };
-  }
-
-  static fromState(state: ChannelVarianceState): ChannelVarianceAccumulator {
-    const accumulator = new ChannelVarianceAccumulator(state.draws, state.assets);
-    const sizes: [number, number][] = [
-      [state.status.length, accumulator.status.length],
-      [state.counts.length, accumulator.counts.length],
-      [state.sumPieces.length, accumulator.sumPieces.length],
-      [state.squarePieces.length, accumulator.squarePieces.length],
-      [state.minimum.length, accumulator.minimum.length],
-      [state.maximum.length, accumulator.maximum.length],
-    ];
-    if (sizes.some(([got, want]) => got !== want)) throw new RangeError('channel-variance state has the wrong shape');
-    accumulator.status.set(state.status);
-    accumulator.counts.set(state.counts);
-    accumulator.sumPieces.set(state.sumPieces);
-    accumulator.squarePieces.set(state.squarePieces);
-    const n = accumulator.assets;
-    for (let cell = 0; cell < accumulator.minimum.length; cell++) {
-      const batchCell = Math.floor(cell / n);
-      if (accumulator.counts[batchCell] > 0) {
-        accumulator.minimum[cell] = state.minimum[cell];
-        accumulator.maximum[cell] = state.maximum[cell];
-      }
-    }
-    return accumulator;
   }
 }
 

@@ -14,7 +14,7 @@ function rowOf(b: number, channel: string, scale: number, out: Float64Array): Fl
 }
 
 describe('ChannelVarianceAccumulator', () => {
-  it('is bit-identical for shuffled order, split ranges, merge order and a JSON round trip', () => {
+  it('is bit-identical for shuffled order, split ranges, merge order and a wire round trip', () => {
     const B = 437;
     const row = new Float64Array(N);
     const fill = (acc: ChannelVarianceAccumulator, draws: Iterable<number>): void => {
@@ -39,7 +39,13 @@ describe('ChannelVarianceAccumulator', () => {
     const expected = inOrder.summarize();
     expect(reordered.summarize()).toEqual(expected);
     expect(parts[2].summarize()).toEqual(expected);
-    const roundTrip = ChannelVarianceAccumulator.fromState(JSON.parse(JSON.stringify(parts[2].toState())));
+    // The wire form (how ranges travel between threads and shards) carries it exactly.
+    const whole = { start: 0, end: B };
+    const size = ChannelVarianceAccumulator.wireSize(B, N, whole);
+    const cursor = { f64: new Float64Array(size.f64), f64At: 0, u8: new Uint8Array(size.u8), u8At: 0 };
+    parts[2].writeWire(whole, cursor);
+    const roundTrip = new ChannelVarianceAccumulator(B, N);
+    roundTrip.readWire(whole, { ...cursor, f64At: 0, u8At: 0 });
     expect(roundTrip.summarize()).toEqual(expected);
     expect(expected.meanChannelFailures).toBe(9);
     expect(expected.meanChannelDraws).toBe(B - 9);
