@@ -1,9 +1,9 @@
 import { parentPort } from 'node:worker_threads';
 import { ChunkClaims } from '../scale/chunk-claims.js';
-import { encodePartial } from '../scale/wire.js';
+import { computePlannedRange } from '../scale/range-job.js';
 import type { DrawRange } from '../scale/ranges.js';
 import type { Proposal } from '../schema/proposal.js';
-import { createAccumulators, planStress, runDraws, type PlanSolution } from '../stress/engine.js';
+import { planStress, type PlanSolution } from '../stress/engine.js';
 
 /**
  * Entry of one worker thread (src/cli/threads.ts). The thread stays up between requests, so a
@@ -42,10 +42,7 @@ export function runChunkJob(job: ChunkJobMessage, post: (message: ThreadMessage,
   const plan = planStress(job.proposal, [], { draws: job.draws, seed: job.seed, workShares: Number.POSITIVE_INFINITY }, job.solution);
   const claims = new ChunkClaims(job.claims, job.chunks.length);
   for (let k = claims.claim(); k !== undefined; k = claims.claim()) {
-    const chunk = job.chunks[k];
-    const acc = createAccumulators(plan, chunk);
-    runDraws(plan, chunk.start, chunk.end, acc, (done) => post({ type: 'progress', done }));
-    const bytes = encodePartial(plan, acc, chunk, job.inputDigest);
+    const bytes = computePlannedRange(plan, job.inputDigest, job.chunks[k], (done) => post({ type: 'progress', done }));
     post({ type: 'chunk', index: k, bytes }, [bytes.buffer as ArrayBuffer]);
   }
   post({ type: 'finished' });

@@ -4,11 +4,12 @@ import { pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { FINEST_CHUNK_PER_LANE, laneChunks } from '../scale/chunk-claims.js';
 import { runLanes, type Lane } from '../scale/lanes.js';
-import { computeRange } from '../scale/range-job.js';
+import { drawsHere } from '../scale/runner.js';
+import { computePlannedRange } from '../scale/range-job.js';
 import type { DrawRange } from '../scale/ranges.js';
 import type { Proposal } from '../schema/proposal.js';
 import { inputDigest } from '../stress/digest.js';
-import { createAccumulators, runDraws, type StressPlan } from '../stress/engine.js';
+import type { StressPlan } from '../stress/engine.js';
 import { planForecastSensitivity } from '../stress/plan-summary.js';
 import type { DrawRunner } from '../stress/run.js';
 import type { ChunkJobMessage, ThreadMessage } from './range-thread.js';
@@ -131,9 +132,7 @@ const hereLane =
       if (signal.aborted) return {};
       const k = claims.claim();
       if (k === undefined) break;
-      const chunk = chunks[k];
-      const request = { proposal: undefined, draws: plan.draws, seed: plan.seed, start: chunk.start, end: chunk.end };
-      deliver(k, await computeRange(request, { planned: { plan, inputDigest: digest }, onProgress: progress }));
+      deliver(k, computePlannedRange(plan, digest, chunks[k], progress));
     }
     planForecastSensitivity(plan);
     return {};
@@ -186,7 +185,7 @@ const workerLane =
 const retryHere =
   (plan: StressPlan, digest: string) =>
   async (chunk: DrawRange): Promise<Uint8Array> =>
-    computeRange({ proposal: undefined, draws: plan.draws, seed: plan.seed, start: chunk.start, end: chunk.end }, { planned: { plan, inputDigest: digest } });
+    computePlannedRange(plan, digest, chunk);
 
 export interface ThreadRunnerOptions {
   /** The worker-thread module (e.g. a bundled range-thread for benchmarks). */
@@ -218,9 +217,7 @@ export function threadRunner(threads: number, automatic: boolean, options: Threa
     async run(plan: StressPlan, proposal: Proposal, onProgress?: (done: number, total: number) => void) {
       if (automatic && plan.workUnits < minWork) {
         runner.record = {};
-        const acc = createAccumulators(plan);
-        runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
-        return acc;
+        return drawsHere(plan, onProgress);
       }
       const lanes = Math.min(threads, plan.draws);
       runner.record = { threads: lanes };

@@ -90,6 +90,16 @@ async function rangePlan(request: RangeRequest, options: RangeComputeOptions): P
  * proposal: it is deterministic, so every range sees the plan of a single run. Throws
  * RangeProposalError, LimitError (413) and the core's typed errors like a whole request would.
  */
+/**
+ * Computes draws [start, end) of a plan made on this thread, in one synchronous run, and returns
+ * their binary partial (a thread's chunk: the draws are not interruptible inside it).
+ */
+export function computePlannedRange(plan: StressPlan, inputDigest: string, range: { readonly start: number; readonly end: number }, onProgress?: (done: number) => void): Uint8Array {
+  const acc = createAccumulators(plan, range);
+  runDraws(plan, range.start, range.end, acc, onProgress);
+  return encodePartial(plan, acc, range, inputDigest);
+}
+
 export async function computeRange(request: RangeRequest, options: RangeComputeOptions = {}): Promise<Uint8Array> {
   const { plan, inputDigest: digest } = await rangePlan(request, options);
   const acc = createAccumulators(plan, { start: request.start, end: request.end });

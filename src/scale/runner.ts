@@ -1,6 +1,6 @@
 import type { Proposal } from '../schema/proposal.js';
 import { inputDigest } from '../stress/digest.js';
-import { createAccumulators, runDraws, type StressPlan } from '../stress/engine.js';
+import { createAccumulators, runDraws, type StressAccumulators, type StressPlan } from '../stress/engine.js';
 import type { DrawRunner } from '../stress/run.js';
 import { fanOut } from './fan-out.js';
 import { runDrawsInChunks, type RangeRequest } from './range-job.js';
@@ -58,9 +58,7 @@ export function fanOutRunner(options: FanOutRunnerOptions): DrawRunner & { recor
       if (chosen === 'here') {
         runner.record = {};
         if (options.pause && options.signal) return interruptibleRunner(options.signal, options.pause).run(plan, proposal, onProgress);
-        const acc = createAccumulators(plan);
-        runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
-        return acc;
+        return drawsHere(plan, onProgress);
       }
       const parts = Math.min(chosen, plan.draws);
       runner.record = options.unit === 'thread' ? { threads: parts } : { shards: parts };
@@ -98,4 +96,11 @@ export function interruptibleRunner(signal: AbortSignal, pause: () => Promise<vo
       return acc;
     },
   };
+}
+
+/** Every draw of the plan in one loop on this thread (what a runner does when it splits nothing). */
+export function drawsHere(plan: StressPlan, onProgress?: (done: number, total: number) => void): StressAccumulators {
+  const acc = createAccumulators(plan);
+  runDraws(plan, 0, plan.draws, acc, onProgress ? (done) => onProgress(done, plan.draws) : undefined);
+  return acc;
 }
