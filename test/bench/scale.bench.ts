@@ -252,22 +252,17 @@ async function threads(): Promise<void> {
   const ROUNDS = QUICK ? 2 : 5;
   const results = rows.map(() => ({ times: [] as number[], cpus: [] as number[], bytes: '' }));
   const cold = (label: string): boolean => label.includes('cold');
-  const schedule: number[] = [];
-  for (let r = 0; r <= ROUNDS; r++) for (const [k, [label]] of rows.entries()) if (!cold(label)) schedule.push(r === 0 ? -1 - k : k);
-  for (let r = 0; r < ROUNDS; r++) for (const [k, [label]] of rows.entries()) if (cold(label)) schedule.push(k);
-  for (const entry of schedule) {
-    {
-      const warmUp = entry < 0;
-      const k = warmUp ? -1 - entry : entry;
-      const makeRunner = rows[k][2];
-      const runner = makeRunner();
-      const run = await measure(() => stressProposal(v.proposal, v.warnings, runner ? { drawRunner: runner } : {}));
-      if (warmUp) continue;
-      results[k].times.push(run.wall);
-      results[k].cpus.push(run.cpu);
-      const { elapsedMs: _e, threads: _t, ...meta } = run.value.meta;
-      results[k].bytes = JSON.stringify({ ...run.value, meta });
-    }
+  const schedule: { row: number; counted: boolean }[] = [];
+  for (let r = 0; r <= ROUNDS; r++) for (const [row, [label]] of rows.entries()) if (!cold(label)) schedule.push({ row, counted: r > 0 });
+  for (let r = 0; r < ROUNDS; r++) for (const [row, [label]] of rows.entries()) if (cold(label)) schedule.push({ row, counted: true });
+  for (const { row, counted } of schedule) {
+    const runner = rows[row][2]();
+    const run = await measure(() => stressProposal(v.proposal, v.warnings, runner ? { drawRunner: runner } : {}));
+    if (!counted) continue;
+    results[row].times.push(run.wall);
+    results[row].cpus.push(run.cpu);
+    const { elapsedMs: _e, threads: _t, ...meta } = run.value.meta;
+    results[row].bytes = JSON.stringify({ ...run.value, meta });
   }
   for (const [k, [label, threadsUsed]] of rows.entries()) {
     const { times, cpus, bytes } = results[k];
