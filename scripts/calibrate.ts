@@ -139,6 +139,8 @@ interface KindRow {
   /** The largest such mean error. */
   stillLargest: number;
   ratios: number[];
+  /** Figures whose ratio lies outside 0.8–1.2, with it. */
+  outside: [string, number][];
 }
 
 /** A spread across seeds at most this times the figure's size is rounding, not a move. */
@@ -147,7 +149,7 @@ const STILL_RELATIVE_SPREAD = 1e-12;
 function ratioRows(samples: Samples): KindRow[] {
   const rows: KindRow[] = [];
   for (const [kind, byId] of samples) {
-    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, still: 0, stillLargest: 0, ratios: [] };
+    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, still: 0, stillLargest: 0, ratios: [], outside: [] };
     for (const [id, list] of byId) {
       row.figures++;
       const errors = list.map((s) => s.stdErr);
@@ -177,6 +179,7 @@ function ratioRows(samples: Samples): KindRow[] {
       }
       const ratio = spread / meanError;
       row.ratios.push(ratio);
+      if (ratio < 0.8 || ratio > 1.2) row.outside.push([id, ratio]);
       if (!row.worst || Math.abs(Math.log(ratio)) > Math.abs(Math.log(row.worst[1]))) row.worst = [id, ratio];
     }
     rows.push(row);
@@ -409,6 +412,7 @@ async function main(): Promise<void> {
             `${within}/${sorted.length}`.padStart(8);
       const still = row.still > 0 ? `   still ${row.still} (mean se ≤ ${row.stillLargest.toExponential(1)})` : '';
       console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}${still}`);
+      if (row.outside.length > 0) console.log(`${''.padEnd(37)}outside 0.8–1.2: ${row.outside.map(([id, r]) => `${id} ${r.toFixed(2)}`).join(', ')}`);
     }
     const rate = (metric: GateMetric, kind: string): string => `${((100 * (fails.get(`${metric}|${kind}`) ?? 0)) / K).toFixed(1).padStart(5)} %`;
     console.log(

@@ -7,10 +7,9 @@ Writes test/reference/fixtures/statistics.json with:
   midRanks        scipy.stats.percentileofscore(kind='mean') — the mid-rank percentile
   moments         mean and sample sd (numpy, ddof=1) and sd/sqrt(n)
   batchMeans      Monte Carlo errors computed the documented way (src/statistics/batch-means.ts):
-                  percentiles by the order-statistic interval s*(Q(q+z s) - Q(q-z s))/(hi-lo),
-                  s = sqrt(q(1-q)/n), with numpy.quantile, and where the draws in that interval are
-                  tied the exact bootstrap sd of the order statistic (scipy.stats.binom; 0 when
-                  tied over q -/+ 7 s); band widths with the asymptotic
+                  percentiles by the exact bootstrap sd of the order statistic(s) the type-7
+                  percentile interpolates (Maritz & Jarrett 1978, scipy.stats.binom over every
+                  position; 0 when tied over q -/+ 7 s of rank); band widths with the asymptotic
                   quantile correlation; sds by the delta method; failed draws (NaN) excluded
   weights         a whole WeightAccumulator summary recomputed with numpy
   channels        mean-driven shares from numpy.var(ddof=1), including a badly conditioned case
@@ -29,7 +28,6 @@ import numpy as np
 import scipy
 from scipy.stats import binom, percentileofscore
 
-Z = 1.959963984540054
 PROBS = [0.0, 0.05, 0.25, 0.5, 0.75, 0.95, 1.0, 0.1234, 0.9999]
 OUT = os.path.join(os.path.dirname(__file__), '..', '..', 'test', 'reference', 'fixtures', 'statistics.json')
 
@@ -64,15 +62,10 @@ def order_stat_se(x, q):
     if n < 2:
         return float('nan')
     s = math.sqrt(q * (1 - q) / n)
-    lo = max(0.0, q - Z * s)
-    hi = min(1.0, q + Z * s)
-    width = float(np.quantile(x, hi, method='linear') - np.quantile(x, lo, method='linear'))
-    if width > 0:
-        return s * width / (hi - lo)
     if s == 0:
-        return 0.0
-    # Tied over the ~95 % interval (a point mass): 0 when tied over q -/+ 7 s of rank, else the
-    # exact bootstrap sd of the order statistic(s) the type-7 percentile interpolates.
+        # q = 0 or 1: the gap between the two outermost draws.
+        return float(x[1] - x[0]) if q == 0 else float(x[n - 1] - x[n - 2])
+    # 0 when the draws within q -/+ 7 s of rank are tied (a point mass no rerun plausibly leaves).
     first = max(1, math.ceil(n * (q - 7 * s)))
     last = min(n, math.floor(n * (q + 7 * s)) + 1)
     if x[first - 1] == x[last - 1]:

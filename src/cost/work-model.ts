@@ -1,6 +1,6 @@
 import type { MethodSpec } from '../schema/proposal.js';
 import type { Job, RequestShape } from './request-shape.js';
-import { BOOTSTRAP_REPLICATES } from '../statistics/stability.js';
+import { BOOTSTRAP_REPLICATES } from '../statistics/draw-bootstrap.js';
 
 /**
  * One work model for everything a request does, in counted operations ("units": leading-order

@@ -1,5 +1,5 @@
 import { binomialCdf, binomialSurvival } from './binomial-tail.js';
-import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
+import { gatherFiniteSorted } from './quantiles.js';
 
 /**
  * Monte Carlo standard errors of statistics computed from the B resampling draws. The draws are
@@ -9,27 +9,22 @@ import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
  *
  * - Means (and other averages of per-draw values): sample sd (divisor n − 1) / √n over the n
  *   successful draws — the textbook standard error.
- * - Percentiles: the distribution-free order-statistic interval (e.g. Conover, Practical
- *   Nonparametric Statistics, 3rd ed. 1999, §3.2; from memory). The number of draws below the
- *   q-quantile is Binomial(n, q), so the quantiles at probabilities q ∓ z·s, s = √(q(1−q)/n),
- *   bracket it with ≈ 95 % confidence; SE = s·(Q(q + z·s) − Q(q − z·s)) / (2z·s), i.e. half the
- *   interval over z. That is the Siddiqui (1960) / Bloch & Gastwirth (1968) estimate of the
- *   sparsity 1/f(Q(q)) times √(q(1−q)/n), the asymptotic sd of a sample quantile (Serfling 1980,
- *   §2.3.3). Q is the type-7 percentile (quantiles.ts), so ranks are interpolated, not rounded;
- *   probabilities are clamped to [0, 1] and the divisor shrinks with the clamped width. When the
- *   draws inside the interval are tied (a point mass: the sparsity there is 0) the error is the
- *   exact bootstrap sd of the order statistic (Maritz & Jarrett 1978, JASA 73): the chance that a
- *   rerun's percentile leaves the mass times the jump, over the order statistics within ±7 sds of
- *   rank; exactly 0 when those are all tied, i.e. no plausible rerun could move the percentile off
- *   the mass. (The former rule read a width from an interval widened up to 7 sds past the mass,
- *   which priced a jump that needs a 5-sd rank excursion as a density: full Kelly's
- *   certainty-equivalent-loss median on D1 reported ± 2.7e-4 for a figure that never moved.)
+ * - Percentiles: the exact bootstrap sd of the sample percentile (Maritz & Jarrett 1978, JASA
+ *   73; `orderStatisticStdErr`): the r-th order statistic of a resample lands on position i with
+ *   probability P(Bin(n, i/n) ≥ r) − P(Bin(n, (i−1)/n) ≥ r), so its variance is a weighted sum over
+ *   the sorted draws, no resampling needed. On smooth columns it tracks the asymptotic sd
+ *   √(q(1−q)/n)/f(Q(q)) (Serfling 1980, §2.3.3). Per-draw figures pile up at corner portfolios and
+ *   bounds, and there it weighs every cluster a rerun's percentile can reach; exactly 0 when the
+ *   draws within ±7 sds of rank are all tied (no plausible rerun leaves the mass). The former rule,
+ *   the order-statistic interval s·(Q(q + 1.96s) − Q(q − 1.96s))/(2·1.96) (Siddiqui 1960 / Bloch &
+ *   Gastwirth 1968 sparsity), saw only ±1.96 sds of rank and under-stated a percentile at the edge
+ *   of a cluster 1.4–1.6× (full Kelly's median turnover, demo, 200–2000 draws).
  * - A difference of two percentiles of one column (a band width Q(h) − Q(l)):
  *   Var = SE_l² + SE_h² − 2ρ·SE_l·SE_h with the asymptotic correlation of sample quantiles
  *   ρ = l(1−h) / √(l(1−l)·h(1−h)) (Serfling 1980, §2.3.3; 0.0526 for the 5th and 95th).
- * - Differences between two runs on common random numbers (check --baseline): the same formulas
- *   with the cross-covariance Cov(Q_a(p), Q_b(q)) = (P(X_a ≤ Q_a(p), X_b ≤ Q_b(q)) − pq)·
- *   SE_a·SE_b / √(p(1−p)q(1−q)), the joint probability counted over the paired draws.
+ * - Differences between two runs on common random numbers (check --baseline) of percentiles: a
+ *   bootstrap that resamples the same draws in both runs (draw-bootstrap.ts); of means and sds:
+ *   the per-draw differences of their influence values.
  * - Standard deviations (max-weight-sd): the delta method, Var(s) ≈ (m₄ − s⁴)/(4s²n), m₄ the
  *   fourth central moment (no normality assumed); paired: the sd/√n of the difference of the two
  *   runs' per-draw influence values ((x − x̄)² − s²)/(2s).
@@ -67,12 +62,12 @@ import { gatherFiniteSorted, quantileSorted } from './quantiles.js';
 export const MONTE_CARLO_ERROR_DESCRIPTION =
   'Monte Carlo standard errors; the draws are independent, and every error is a function of the per-draw results only ' +
   '(ranges of draws computed apart give the same errors). Means: the sample standard deviation (divisor n-1) over the n ' +
-  'successful draws divided by sqrt(n). Percentiles: the order-statistic interval: with s = sqrt(q(1-q)/n), ' +
-  'SE = (Q(q + 1.96 s) - Q(q - 1.96 s)) / (2 * 1.96) (probabilities clamped to [0, 1], the divisor shrunk to match), ' +
-  'and when the draws in that interval are tied (the percentile sits on a point mass) the exact bootstrap standard deviation of the order statistic ' +
-  '(Maritz & Jarrett 1978: the chance that a rerun leaves the mass times the jump) over the draws within q -/+ 7 s, exactly 0 when those are all tied. Band widths and differences of percentiles combine those ' +
-  'errors with the asymptotic correlation of sample quantiles (for runs against a baseline on common random numbers, ' +
-  'the correlation counted over the paired draws). Standard deviations: the delta method with the fourth moment. ' +
+  'successful draws divided by sqrt(n). Percentiles: the exact bootstrap standard deviation of the sample percentile ' +
+  '(Maritz & Jarrett 1978: order statistic x_(i) weighted by P(Binomial(n, i/n) >= r) - P(Binomial(n, (i-1)/n) >= r); type 7 interpolates the two neighbours), ' +
+  'exactly 0 when the draws within q -/+ 7 s, s = sqrt(q(1-q)/n), are all tied (a point mass no rerun plausibly leaves); ' +
+  'at the edge of a point mass it counts the chance that a rerun leaves the mass times the jump. Band widths combine the two ' +
+  'percentile errors with the asymptotic correlation of sample quantiles. Differences of percentiles of two runs on common random numbers (a baseline): ' +
+  'a bootstrap that resamples the same draws in both runs (200 replicates, seeded). Standard deviations: the delta method with the fourth moment. ' +
   'Outside-band share: a bootstrap of the draws (200 replicates, seeded, draws resampled by index). ' +
   'Mean-driven share: a delete-one-group jackknife over min(30, floor(B/10)) contiguous groups of draws ' +
   '(the bound 0.5 below 20 draws; exactly 0 when the share cannot move, e.g. a method that ignores the means; ' +
@@ -188,12 +183,19 @@ export function jackknifeStdErr(loo: ArrayLike<number>, m: number): number {
 }
 
 /**
- * Order-statistic standard error of the type-7 q-quantile of the first n entries of an
- * ascending array: with s = √(q(1−q)/n), lo = max(0, q − z·s), hi = min(1, q + z·s),
- * SE = s·(Q(hi) − Q(lo))/(hi − lo) — the sparsity 1/f estimated from the ≈ 95 % distribution-free
- * interval, times s (see MONTE_CARLO_ERROR_DESCRIPTION). When the order statistics inside the
- * interval are tied (a point mass): pointMassStdErr, exactly 0 when the mass covers q ± 7s.
- * NaN when n < 2 (and at q = 0 or 1 the gap between the two outermost draws).
+ * Standard error of the type-7 q-quantile of the first n entries of an ascending array: the exact
+ * bootstrap sd of the sample quantile (Maritz & Jarrett 1978, "A note on estimating the variance
+ * of the sample median", JASA 73(361); from memory), exactBootstrapStdErr. Exactly 0 when the
+ * draws within q ± 7 sds of rank are tied (a point mass no plausible rerun leaves).
+ *
+ * Why not the order-statistic interval s·(Q(q + 1.96s) − Q(q − 1.96s))/(2·1.96), which this
+ * replaced: it reads the sparsity 1/f from a window of ±1.96 sds of rank, and per-draw figures
+ * pile up at corner portfolios. When the percentile sits at the edge of such an atom, a rerun's
+ * percentile jumps to the next cluster, which the window does not see: full Kelly's median turnover
+ * (demo) was 1.4–1.6× under-stated at 200–2000 draws, and some weight p95s 1.3–1.6×. The exact
+ * bootstrap weighs every order statistic a rerun can reach. On smooth columns the two agree
+ * within 2–3 % (DEVELOPERS.md, calibration).
+ * NaN when n < 2; at q = 0 or 1 the gap between the two outermost draws.
  */
 export function orderStatisticStdErr(sorted: ArrayLike<number>, n: number, q: number): number {
   if (n < 2) return Number.NaN;
@@ -203,39 +205,29 @@ export function orderStatisticStdErr(sorted: ArrayLike<number>, n: number, q: nu
     const gap = q === 0 ? sorted[1] - sorted[0] : sorted[n - 1] - sorted[n - 2];
     return gap;
   }
-  const lo = Math.max(0, q - NORMAL_QUANTILE_975 * s);
-  const hi = Math.min(1, q + NORMAL_QUANTILE_975 * s);
-  const width = quantileSorted(sorted, n, hi) - quantileSorted(sorted, n, lo);
-  if (width > 0) return (s * width) / (hi - lo);
-  // The draws inside the ≈ 95 % interval are tied: the percentile sits on a point mass (a weight
-  // at a bound, a corner portfolio's certainty-equivalent loss) and the sparsity there is 0. A
-  // rerun's percentile moves only if it leaves the mass, so the error is the chance-weighted jump
-  // off it: the exact bootstrap sd of the order statistic (pointMassStdErr).
-  return pointMassStdErr(sorted, n, q, s);
+  return exactBootstrapStdErr(sorted, n, q, s);
 }
 
-/** Bootstrap tail mass below which the point-mass sum stops (see bootstrapOrderStatisticSd). */
+/** Bootstrap tail mass below which the exact-bootstrap sum stops (see bootstrapOrderStatisticSd). */
 const NEGLIGIBLE_TAIL = 1e-20;
 
 /** Half-width, in sds of rank, beyond which no rerun's percentile plausibly reaches (7 sds). */
 const POINT_MASS_REACH = 7;
 
 /**
- * Error of a type-7 percentile sitting on tied order statistics. The exact bootstrap distribution
- * of the r-th order statistic (Maritz & Jarrett 1978, "A note on estimating the variance of the
- * sample median", JASA 73(361); from memory): a resample of the n sorted draws puts its r-th
- * smallest at or below position i with probability P(Binomial(n, i/n) ≥ r), so position i carries
- * w_i = P(Bin(n, i/n) ≥ r) − P(Bin(n, (i−1)/n) ≥ r) and the variance is Σ w_i (x_i − x̄_w)². Ties
- * need no special case: a mass adds its whole weight at one value, and only the weight reaching
- * past its edges spreads. The error is exactly 0 when the draws within q ± 7 sds of rank are all
- * tied (no plausible rerun leaves the mass), as before. Type 7 interpolates Q = (1 − g)·x₍ᵣ₎ + g·x₍ᵣ₊₁₎; its sd is at
- * most (1 − g)·sd(x₍ᵣ₎) + g·sd(x₍ᵣ₊₁₎) (Cauchy–Schwarz; adjacent order statistics are nearly
- * perfectly correlated), which is what is returned.
+ * Exact bootstrap sd of a type-7 percentile (Maritz & Jarrett 1978; from memory): a resample of
+ * the n sorted draws puts its r-th smallest at or below position i with probability
+ * P(Binomial(n, i/n) ≥ r), so position i carries w_i = P(Bin(n, i/n) ≥ r) − P(Bin(n, (i−1)/n) ≥ r)
+ * and the variance is Σ w_i (x_i − x̄_w)². Ties need no special case: a mass adds its whole
+ * weight at one value, and only the weight reaching past its edges spreads. The error is exactly
+ * 0 when the draws within q ± 7 sds of rank are all tied (no plausible rerun leaves the mass).
+ * Type 7 interpolates Q = (1 − g)·x₍ᵣ₎ + g·x₍ᵣ₊₁₎; its sd is at most (1 − g)·sd(x₍ᵣ₎) + g·sd(x₍ᵣ₊₁₎)
+ * (Cauchy–Schwarz; adjacent order statistics are nearly perfectly correlated), which is returned.
  * Calibration (D1 case, 200 draws, 300 seeds): full Kelly's certainty-equivalent-loss median sits
- * on a corner portfolio holding 55 % of the draws, never moved in any seed, and was reported
- * ± 2.7e-4 by the former rule (the width read from an interval widened past the mass); now ± 1e-7.
+ * on a corner portfolio holding 55 % of the draws, never moved in any seed, and is reported ± 1e-7
+ * (the interval rule's window, widened past the mass, gave ± 2.7e-4).
  */
-export function pointMassStdErr(sorted: ArrayLike<number>, n: number, q: number, s = Math.sqrt((q * (1 - q)) / n)): number {
+export function exactBootstrapStdErr(sorted: ArrayLike<number>, n: number, q: number, s = Math.sqrt((q * (1 - q)) / n)): number {
   const h = (n - 1) * q;
   const j = Math.floor(h);
   const g = h - j;
@@ -243,44 +235,75 @@ export function pointMassStdErr(sorted: ArrayLike<number>, n: number, q: number,
   return g > 0 && j + 1 < n ? (1 - g) * first + g * bootstrapOrderStatisticSd(sorted, n, j + 1, q, s) : first;
 }
 
+/** The bootstrap weights of the order statistic of rank r among n: w[k] for 1-based position `first` + k. */
+interface OrderStatisticWeights {
+  readonly first: number;
+  readonly weights: Float64Array;
+}
+
 /**
- * Exact bootstrap sd of the order statistic at 0-based `index`: 0 when the draws within q ± 7s are
- * tied, else summed outwards from the order statistic until the remaining binomial tail is below
- * 1e-20 (about 9 sds of rank; what is left adds less than 1e-20 × (range of the draws)² to the
- * variance, far below any error worth reporting). Below the order statistic the
- * weights are differences of P(Bin ≥ r), above it of P(Bin ≤ r − 1), so each is a difference of
- * small tails and keeps its relative precision where it matters (a tiny error made of rare jumps).
+ * Weights by (n, r): they do not depend on the data, and every asset's percentile of a method
+ * (same successful draws) uses the same ones. A few hundred entries at most are kept.
  */
+const weightCache = new Map<number, OrderStatisticWeights>();
+const WEIGHT_CACHE_ENTRIES = 512;
+
+/**
+ * w_i for 1-based positions i around r, summed outwards until the remaining binomial tail is below
+ * 1e-20 (about 9 sds of rank; what is left adds less than 1e-20 × (range of the draws)² to the
+ * variance, far below any error worth reporting). Below r the weights are differences of
+ * P(Bin ≥ r), above it of P(Bin ≤ r − 1), so each is a difference of small tails and keeps its
+ * relative precision where it matters (a tiny error made of rare jumps).
+ */
+function orderStatisticWeights(n: number, r: number): OrderStatisticWeights {
+  const key = n * (n + 1) + r;
+  const cached = weightCache.get(key);
+  if (cached) return cached;
+  const below: number[] = [];
+  // Positions r, r − 1, …: w_i = P(Bin(n, i/n) ≥ r) − P(Bin(n, (i − 1)/n) ≥ r).
+  let atOrBelow = binomialSurvival(r, n, r / n);
+  let i = r;
+  for (; i >= 1 && atOrBelow > NEGLIGIBLE_TAIL; i--) {
+    const next = binomialSurvival(r, n, (i - 1) / n);
+    below.push(atOrBelow - next);
+    atOrBelow = next;
+  }
+  const first = i + 1;
+  const above: number[] = [];
+  // Positions r + 1, …: w_i = P(Bin(n, (i − 1)/n) ≤ r − 1) − P(Bin(n, i/n) ≤ r − 1).
+  let beyond = binomialCdf(r - 1, n, r / n);
+  for (let k = r + 1; k <= n && beyond > NEGLIGIBLE_TAIL; k++) {
+    const next = binomialCdf(r - 1, n, k / n);
+    above.push(beyond - next);
+    beyond = next;
+  }
+  const weights = new Float64Array(below.length + above.length);
+  for (let k = 0; k < below.length; k++) weights[k] = below[below.length - 1 - k];
+  weights.set(above, below.length);
+  const entry = { first, weights };
+  if (weightCache.size >= WEIGHT_CACHE_ENTRIES) weightCache.clear();
+  weightCache.set(key, entry);
+  return entry;
+}
+
+/** Exact bootstrap sd of the order statistic at 0-based `index`: 0 when the draws within q ± 7s are tied. */
 function bootstrapOrderStatisticSd(sorted: ArrayLike<number>, n: number, index: number, q: number, s: number): number {
-  const r = index + 1;
   // 1-based positions i whose rank interval ((i − 1)/n, i/n] meets [q − 7s, q + 7s].
-  const first = Math.max(1, Math.ceil(n * (q - POINT_MASS_REACH * s)));
-  const last = Math.min(n, Math.floor(n * (q + POINT_MASS_REACH * s)) + 1);
-  if (sorted[first - 1] === sorted[last - 1]) return 0;
+  const lowest = Math.max(1, Math.ceil(n * (q - POINT_MASS_REACH * s)));
+  const highest = Math.min(n, Math.floor(n * (q + POINT_MASS_REACH * s)) + 1);
+  if (sorted[lowest - 1] === sorted[highest - 1]) return 0;
+  const { first, weights } = orderStatisticWeights(n, index + 1);
   // Deviations from the order statistic itself, so the mass it sits on adds exactly 0.
   const centre = sorted[index];
   let total = 0;
   let sum = 0;
   let squares = 0;
-  const add = (weight: number, value: number): void => {
-    const deviation = value - centre;
-    total += weight;
-    sum += weight * deviation;
-    squares += weight * deviation * deviation;
-  };
-  // Positions r, r − 1, …: w_i = P(Bin(n, i/n) ≥ r) − P(Bin(n, (i − 1)/n) ≥ r).
-  let atOrBelow = binomialSurvival(r, n, r / n);
-  for (let i = r; i >= 1 && atOrBelow > NEGLIGIBLE_TAIL; i--) {
-    const below = binomialSurvival(r, n, (i - 1) / n);
-    add(atOrBelow - below, sorted[i - 1]);
-    atOrBelow = below;
-  }
-  // Positions r + 1, …: w_i = P(Bin(n, (i − 1)/n) ≤ r − 1) − P(Bin(n, i/n) ≤ r − 1).
-  let above = binomialCdf(r - 1, n, r / n);
-  for (let i = r + 1; i <= n && above > NEGLIGIBLE_TAIL; i++) {
-    const next = binomialCdf(r - 1, n, i / n);
-    add(above - next, sorted[i - 1]);
-    above = next;
+  for (let k = 0; k < weights.length; k++) {
+    const deviation = sorted[first - 1 + k] - centre;
+    const w = weights[k];
+    total += w;
+    sum += w * deviation;
+    squares += w * deviation * deviation;
   }
   if (!(total > 0)) return 0;
   const mean = sum / total;

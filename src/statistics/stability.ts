@@ -1,4 +1,5 @@
-import { createDrawStream, type Seed } from '../resample/streams.js';
+import type { Seed } from '../resample/streams.js';
+import { BOOTSTRAP_REPLICATES, bootstrapCounts, expandedQuantile, resampledTotal, sortedDraws } from './draw-bootstrap.js';
 import { stridedMoments } from './batch-means.js';
 import { quantileSorted } from './quantiles.js';
 import { binomialCdf, binomialSurvival } from './binomial-tail.js';
@@ -6,14 +7,6 @@ import { binomialCdf, binomialSurvival } from './binomial-tail.js';
 /** Tolerance for "outside the band": a weight within 1e-9 of a band edge is on it. */
 export const BAND_EDGE_TOLERANCE = 1e-9;
 
-/**
- * Bootstrap replicates for the outside-band share's Monte Carlo error: with R = 200 the error
- * estimate itself has a relative sd of about 1/√(2R) = 5 % (Efron & Tibshirani 1993, §6.4 —
- * 50–200 replicates suffice for a standard error).
- */
-export const BOOTSTRAP_REPLICATES = 200;
-/** Stream purpose of the error bootstrap: replicate r uses the stream (seed, r, 'mc-error'). */
-export const BOOTSTRAP_PURPOSE = 'mc-error';
 /**
  * An asset is recomputed in the replicates only when its proposed weight lies within this many
  * binomial sds of rank of a band edge; further out, no replicate can move the edge past it
@@ -79,14 +72,7 @@ export function outsideBandShareReplicates(
       if (outside) fixedOutside++;
       continue;
     }
-    // Sorted values with the draw each came from (ties keep draw order: deterministic).
-    const order = new Int32Array(m);
-    let k = 0;
-    for (let b = 0; b < draws; b++) if (Number.isFinite(rows[b * n + i])) order[k++] = b;
-    order.sort((a, c) => rows[a * n + i] - rows[c * n + i] || a - c);
-    const values = new Float64Array(m);
-    for (let j = 0; j < m; j++) values[j] = rows[order[j] * n + i];
-    active.push({ sorted: values, order, x });
+    active.push({ ...sortedDraws(rows, i, n, draws), x });
   }
   if (assets === 0) return undefined;
   const out = new Float64Array(BOOTSTRAP_REPLICATES);
@@ -108,38 +94,6 @@ export function outsideBandShareReplicates(
   return out;
 }
 
-/**
- * The R replicates' counts for (seed, draws), computed once and reused by every method and by the
- * paired baseline run (same seed and draw count: the same resampled draws). One entry is kept.
- */
-let cachedCounts: { key: string; counts: Int32Array[] } | undefined;
-
-function bootstrapCounts(seed: Seed, draws: number): Int32Array[] {
-  const key = `${typeof seed}:${String(seed)}|${draws}`;
-  if (cachedCounts?.key === key) return cachedCounts.counts;
-  const counts: Int32Array[] = [];
-  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
-    const c = new Int32Array(draws);
-    resampleCounts(seed, r, draws, c);
-    counts.push(c);
-  }
-  cachedCounts = { key, counts };
-  return counts;
-}
-
-function resampledTotal(order: Int32Array, counts: Int32Array): number {
-  let total = 0;
-  for (let j = 0; j < order.length; j++) total += counts[order[j]];
-  return total;
-}
-
-/** counts[b] = how often draw b is picked when B draws are drawn with replacement from stream (seed, r, 'mc-error'). */
-export function resampleCounts(seed: Seed, replicate: number, draws: number, counts: Int32Array): void {
-  counts.fill(0);
-  const stream = createDrawStream(seed, replicate, BOOTSTRAP_PURPOSE);
-  for (let k = 0; k < draws; k++) counts[stream.integer(draws)]++;
-}
-
 /** Whether x lies within ACTIVE_RANK_SDS binomial sds of rank of the p05 or p95 order statistic. */
 function nearEdge(sorted: Float64Array, m: number, x: number, tolerance: number): boolean {
   for (const q of [LOW, HIGH]) {
@@ -149,33 +103,6 @@ function nearEdge(sorted: Float64Array, m: number, x: number, tolerance: number)
     if (x >= lo - 2 * tolerance && x <= hi + 2 * tolerance) return true;
   }
   return false;
-}
-
-/**
- * Type-7 q-quantile of the resampled sample in which sorted value j (from draw order[j]) appears
- * counts[order[j]] times. NaN when the resample holds no successful draw. O(m).
- */
-export function expandedQuantile(sorted: Float64Array, order: Int32Array, counts: Int32Array, q: number, knownTotal?: number): number {
-  const m = sorted.length;
-  const total = knownTotal ?? resampledTotal(order, counts);
-  if (total === 0) return Number.NaN;
-  const h = (total - 1) * q;
-  const lowerIndex = Math.floor(h);
-  const upperIndex = lowerIndex + 1 < total ? lowerIndex + 1 : total - 1;
-  const gamma = h - lowerIndex;
-  let a = Number.NaN;
-  let b = Number.NaN;
-  let cumulative = 0;
-  for (let j = 0; j < m; j++) {
-    cumulative += counts[order[j]];
-    if (Number.isNaN(a) && cumulative > lowerIndex) a = sorted[j];
-    if (cumulative > upperIndex) {
-      b = sorted[j];
-      break;
-    }
-  }
-  const diff = b - a;
-  return gamma >= 0.5 ? b - diff * (1 - gamma) : a + diff * gamma;
 }
 
 /** The outside-band share over draws [from, to) (NaN when no draw succeeded); `column` needs to − from entries. */

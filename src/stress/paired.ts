@@ -1,8 +1,9 @@
 import type { MethodSpec, PolicyRule } from '../schema/proposal.js';
-import { jackknifeStdErr, orderStatisticStdErr, quantileCorrelation, stridedMoments } from '../statistics/batch-means.js';
+import { jackknifeStdErr, stridedMoments } from '../statistics/batch-means.js';
+import { percentileCombinationStdErr, sortedDraws } from '../statistics/draw-bootstrap.js';
+import type { Seed } from '../resample/streams.js';
 import { canonicalJson } from '../schema/canonical-json.js';
 import type { StressAccumulators, StressPlan } from './engine.js';
-import { gatherFiniteSorted, quantileSorted } from '../statistics/quantiles.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShareReplicates } from '../statistics/stability.js';
 
 /** A finished stress run with its per-draw data, for paired comparisons. */
@@ -45,72 +46,25 @@ interface QuantileTerm {
 
 /**
  * Standard error of Σ_t c_t·Q_t(p_t), percentiles of columns that may belong to two runs on
- * common random numbers. Var(Q_t) is the order-statistic SE²; Cov(Q_t, Q_u) is SE_t·SE_u times
- * the asymptotic quantile correlation for the same column, and for different columns
- * (P(X_t ≤ Q_t, X_u ≤ Q_u) − p_t·p_u)/√(p_t(1−p_t)p_u(1−p_u)) with the joint probability counted
- * over the draws where both succeeded (Serfling 1980, §2.3.3: the joint asymptotics of sample
- * quantiles). NaN when a column has fewer than 2 successful draws.
+ * common random numbers: the paired bootstrap of the draws (percentileCombinationStdErr), with
+ * the replicates of the runs' shared seed. Terms on identical columns at the same probability are
+ * first merged (their coefficients add), so a figure that no change touches cancels exactly.
+ * NaN when a column has fewer than 2 successful draws.
  */
-export function quantileCombinationStdErr(input: readonly QuantileTerm[]): number {
+export function quantileCombinationStdErr(input: readonly QuantileTerm[], seed: Seed): number {
   const draws = input[0].slots.length;
-  // Terms on identical columns at the same probability are one term: their coefficients add
-  // (a figure that no change touches cancels exactly instead of leaving a rounding residue).
   const terms: QuantileTerm[] = [];
   for (const t of input) {
     const same = terms.findIndex((u) => u.probability === t.probability && sameValues(u.slots, t.slots));
     if (same >= 0) terms[same] = { ...terms[same], coefficient: terms[same].coefficient + t.coefficient };
     else terms.push(t);
   }
-  for (let k = terms.length - 1; k >= 0; k--) if (terms[k].coefficient === 0) terms.splice(k, 1);
-  if (terms.length === 0) return 0;
-  const scratch = new Float64Array(draws);
-  // Columns with identical values in every slot are one column (e.g. the proposal's volatility,
-  // which no method change touches): their difference is exactly 0, not a rounding residue.
-  const column = terms.map((t, k) => {
-    for (let j = 0; j < k; j++) if (sameValues(terms[j].slots, t.slots)) return j;
-    return k;
-  });
-  const errors = terms.map((t) => {
-    const n = gatherFiniteSorted(t.slots, 0, 1, draws, scratch);
-    return { se: orderStatisticStdErr(scratch, n, t.probability), q: quantileSorted(scratch, n, t.probability) };
-  });
-  // Joint and marginal shares below the quantiles, over draws where every column succeeded; the
-  // correlation of the indicators 1{X_t ≤ Q_t} is the correlation of the sample quantiles.
-  let both = 0;
-  const below = new Float64Array(terms.length);
-  const joint = new Float64Array(terms.length * terms.length);
-  for (let d = 0; d < draws; d++) {
-    let ok = true;
-    for (const t of terms) if (!Number.isFinite(t.slots[d])) ok = false;
-    if (!ok) continue;
-    both++;
-    for (let t = 0; t < terms.length; t++) {
-      if (!(terms[t].slots[d] <= errors[t].q)) continue;
-      below[t]++;
-      for (let u = 0; u < terms.length; u++) if (terms[u].slots[d] <= errors[u].q) joint[t * terms.length + u]++;
-    }
-  }
-  let variance = 0;
-  for (let t = 0; t < terms.length; t++) {
-    for (let u = 0; u < terms.length; u++) {
-      const seProduct = errors[t].se * errors[u].se;
-      if (!Number.isFinite(seProduct)) return Number.NaN;
-      if (seProduct === 0) continue;
-      const a = terms[t];
-      const b = terms[u];
-      let correlation: number;
-      if (column[t] === column[u]) correlation = a.probability === b.probability ? 1 : quantileCorrelation(a.probability, b.probability);
-      else {
-        if (both < 2) return Number.NaN;
-        const pa = below[t] / both;
-        const pb = below[u] / both;
-        const scale = Math.sqrt(pa * (1 - pa) * pb * (1 - pb));
-        correlation = scale > 0 ? (joint[t * terms.length + u] / both - pa * pb) / scale : 0;
-      }
-      variance += a.coefficient * b.coefficient * seProduct * correlation;
-    }
-  }
-  return Math.sqrt(Math.max(0, variance));
+  const kept = terms.filter((t) => t.coefficient !== 0);
+  return percentileCombinationStdErr(
+    kept.map((t) => ({ column: sortedDraws(t.slots, 0, 1, draws), probability: t.probability, coefficient: t.coefficient })),
+    draws,
+    seed,
+  );
 }
 
 function sameValues(a: Float64Array, b: Float64Array): boolean {
@@ -164,7 +118,7 @@ function maxSdInfluence(rows: Float64Array, draws: number, n: number): Float64Ar
  * method with this full spec, and its baseline counterpart, see counterpartIndex), from two runs that share their random numbers (same seed and draw count: common
  * random numbers, so draw b of both runs resamples the same rows or the same noise). Each metric
  * uses the paired form of its own error (see MONTE_CARLO_ERROR_DESCRIPTION): percentiles through
- * the joint asymptotics of sample quantiles, means and sds through per-draw differences of their
+ * a bootstrap that resamples the same draws in both runs, means and sds through per-draw differences of their
  * influence values, the outside-band share through the same bootstrap indices in both runs, the
  * mean-driven share through the jackknife of the difference over the same groups.
  * Undefined when the runs cannot be paired (different draw counts or seeds, a method missing) and
@@ -176,12 +130,15 @@ export function pairedStdErr(candidate: StressRun, baseline: StressRun, metric: 
   if (metric === 'volatility-band-width') {
     const a = candidate.acc.proposalVolatility.slots();
     const b = baseline.acc.proposalVolatility.slots();
-    return quantileCombinationStdErr([
-      { slots: a, probability: 0.95, coefficient: 1 },
-      { slots: a, probability: 0.05, coefficient: -1 },
-      { slots: b, probability: 0.95, coefficient: -1 },
-      { slots: b, probability: 0.05, coefficient: 1 },
-    ]);
+    return quantileCombinationStdErr(
+      [
+        { slots: a, probability: 0.95, coefficient: 1 },
+        { slots: a, probability: 0.05, coefficient: -1 },
+        { slots: b, probability: 0.95, coefficient: -1 },
+        { slots: b, probability: 0.05, coefficient: 1 },
+      ],
+      candidate.plan.seed,
+    );
   }
   const ka = methodIndexBySpec(candidate.plan.problem.methods, spec);
   const kb = ka < 0 ? -1 : counterpartIndex(baseline.plan.problem.methods, spec, ka);
@@ -191,10 +148,13 @@ export function pairedStdErr(candidate: StressRun, baseline: StressRun, metric: 
   const n = candidate.plan.problem.n;
   switch (metric) {
     case 'turnover-from-proposal.p50':
-      return quantileCombinationStdErr([
-        { slots: ma.turnoverFromProposal.slots(), probability: 0.5, coefficient: 1 },
-        { slots: mb.turnoverFromProposal.slots(), probability: 0.5, coefficient: -1 },
-      ]);
+      return quantileCombinationStdErr(
+        [
+          { slots: ma.turnoverFromProposal.slots(), probability: 0.5, coefficient: 1 },
+          { slots: mb.turnoverFromProposal.slots(), probability: 0.5, coefficient: -1 },
+        ],
+        candidate.plan.seed,
+      );
     case 'turnover-from-proposal.mean':
       return pairedMeanStdErr(ma.turnoverFromProposal.slots(), mb.turnoverFromProposal.slots());
     case 'max-weight-sd': {

@@ -57,14 +57,17 @@ describe('moments', () => {
 });
 
 describe('quantile errors', () => {
-  it('order-statistic SE: s·(Q(q + z·s) − Q(q − z·s))/(2z·s), s = √(q(1−q)/n)', () => {
-    // x = 1..21, q = 0.5: s = √(0.25/21), type-7 Q(p) = 1 + 20p, so the width is 20·2z·s and SE = 20·s.
-    // (Siddiqui 1960 / Bloch & Gastwirth 1968 sparsity estimate times √(q(1−q)/n); Serfling 1980 §2.3.3.)
-    const x = Float64Array.from({ length: 21 }, (_, k) => k + 1);
-    expect(orderStatisticStdErr(x, 21, 0.5)).toBeCloseTo(20 * Math.sqrt(0.25 / 21), 12);
+  it('percentile SE: the exact bootstrap sd, which on an evenly spaced sample is the slope times √(q(1−q)/n)', () => {
+    // x = 1..401: type-7 Q(p) = 1 + 400p, so the asymptotic sd of the sample q-quantile is
+    // 400·√(q(1−q)/n) (Serfling 1980, §2.3.3). The exact bootstrap (Maritz & Jarrett 1978) adds the
+    // binomial's skew near the tails: within 0.1 % at the median and 3 % at q = 0.05 for n = 401.
+    const x = Float64Array.from({ length: 401 }, (_, k) => k + 1);
+    expect(orderStatisticStdErr(x, 401, 0.5) / (400 * Math.sqrt(0.25 / 401))).toBeCloseTo(1, 3);
+    expect(Math.abs(orderStatisticStdErr(x, 401, 0.05) / (400 * Math.sqrt((0.05 * 0.95) / 401)) - 1)).toBeLessThan(0.03);
     expect(orderStatisticStdErr(x, 1, 0.5)).toBeNaN();
-    // Clamped at the edge: q = 0.05, n = 21 → lo = 0, hi = 0.05 + z·s; still slope 20 per unit probability.
-    expect(orderStatisticStdErr(x, 21, 0.05)).toBeCloseTo(20 * Math.sqrt((0.05 * 0.95) / 21), 12);
+    // The same weights serve every column of a method (cached by n and rank): a second column of
+    // the same length gets its own values' error, not the first one's.
+    expect(orderStatisticStdErr(Float64Array.from(x, (v) => 2 * v), 401, 0.5)).toBeCloseTo(2 * orderStatisticStdErr(x, 401, 0.5), 12);
   });
 
   it('exactly 0 on a point mass (tied order statistics), NaN below 2 draws', () => {
@@ -121,7 +124,7 @@ describe('quantile errors', () => {
   });
 
   it('describes itself for the report meta', () => {
-    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('order-statistic interval');
+    expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('exact bootstrap standard deviation of the sample percentile');
     expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('jackknife');
     expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('bootstrap');
     expect(MONTE_CARLO_ERROR_DESCRIPTION).toContain('reported as null');
