@@ -172,7 +172,7 @@ function ratioRows(samples: Samples): KindRow[] {
       if (spread === 0) {
         // Never moved in K seeds, yet an error is reported: no ratio can be read (any error > 0
         // gives 0), so it is counted apart with its size. A tiny error is honest for a figure
-        // that leaves a point mass only in a rare rerun (pointMassStdErr).
+        // that leaves a point mass only in a rare rerun (exactBootstrapStdErr).
         row.still++;
         if (meanError > row.stillLargest) row.stillLargest = meanError;
         continue;
@@ -397,6 +397,12 @@ async function main(): Promise<void> {
       const t = (truthAt.get(metric) as { value: number }).value;
       for (const est of gate.get(metric)?.get('proposal method') ?? []) if (est.stdErr !== null && est.stdErr > 0) bias.set(metric, [...(bias.get(metric) ?? []), (est.value - t) / est.stdErr]);
     }
+    // The same for the paired difference against the baseline: (difference − Δtruth)/paired se.
+    const pairedBias = new Map<GateMetric, number[]>();
+    for (const metric of GATE_METRICS) {
+      const t = (truthAt.get(metric) as { diff: number }).diff;
+      for (const est of paired.get(`paired ${metric}`)?.get('proposal method') ?? []) if (est.stdErr !== null && est.stdErr > 0) pairedBias.set(metric, [...(pairedBias.get(metric) ?? []), (est.value - t) / est.stdErr]);
+    }
     const seconds = (performance.now() - started) / 1000;
     const noise = 1 / Math.sqrt(2 * (K - 1));
     console.log(`\n== ${draws} draws, K = ${K} seeds (${seconds.toFixed(0)} s); a single ratio's own noise ≈ ±${(100 * noise).toFixed(0)} % (1/√(2(K−1)))`);
@@ -419,14 +425,14 @@ async function main(): Promise<void> {
       `gate at 95 % (judge, as check runs it) on rules at the truth — false fails, goal ≤ 6 %; sd of a rate near 5 % from K seeds ≈ ${(100 * Math.sqrt((0.05 * 0.95) / K)).toFixed(1)} % — ` +
         'and power: fail rate of a rule one step below the truth (1 asset for the share, 20 % otherwise):',
     );
-    console.log(`  ${'metric'.padEnd(28)} ${'truth'.padStart(9)}  max@truth  min@truth  max-step(power)   ${'Δtruth'.padStart(9)}  maxIncrease@Δ  maxIncrease-step(power)   mean (value−truth)/se`);
+    console.log(`  ${'metric'.padEnd(28)} ${'truth'.padStart(9)}  max@truth  min@truth  max-step(power)   ${'Δtruth'.padStart(9)}  maxIncrease@Δ  maxIncrease-step(power)   mean (value−truth)/se   mean (Δ−Δtruth)/paired se`);
     for (const metric of GATE_METRICS) {
       const t = truthAt.get(metric) as { value: number; diff: number };
       const z = bias.get(metric) ?? [];
       const stepBelow = t.value - step(metric, t.value, assets);
       console.log(
         `  ${metric.padEnd(28)} ${t.value.toFixed(5).padStart(9)}  ${rate(metric, 'max at truth').padStart(9)}  ${rate(metric, 'min at truth').padStart(9)}  ${(stepBelow < 0 ? 'n/a' : rate(metric, 'max one step below')).padStart(15)}   ` +
-          `${t.diff.toFixed(5).padStart(9)}  ${rate(metric, 'maxIncrease at truth').padStart(13)}  ${rate(metric, 'maxIncrease one step below').padStart(23)}   ${(z.length > 0 ? mean(z) : Number.NaN).toFixed(2).padStart(8)}`,
+          `${t.diff.toFixed(5).padStart(9)}  ${rate(metric, 'maxIncrease at truth').padStart(13)}  ${rate(metric, 'maxIncrease one step below').padStart(23)}   ${(z.length > 0 ? mean(z) : Number.NaN).toFixed(2).padStart(8)}   ${((pairedBias.get(metric) ?? []).length > 0 ? mean(pairedBias.get(metric) as number[]) : Number.NaN).toFixed(2).padStart(22)}`,
       );
     }
   }

@@ -20,6 +20,19 @@ import {
  */
 export const DEFAULT_SELECTION_THRESHOLD = 1e-4;
 
+/**
+ * Fewest draws that carry a weight's spread for its mean and selection-rate errors to be read
+ * from them. A weight that sits at one value (a bound, mostly 0) in nearly every draw and leaves it
+ * in k draws has a mean and a selection rate made of those k draws; with k of 1–4 the sample sd
+ * says little about what a rerun would see (rerun counts are roughly Poisson, and the sd of k
+ * values is itself unreliable), and sd/√n under-stated the spread across 150 seeds 2–8× on the
+ * demo (minimum variance's rarely held assets; DEVELOPERS.md). Then the error is not estimable
+ * (null, with a warning), as for the mean-driven share. k = 0 (the weight never moved) keeps an
+ * error of exactly 0. 5 matches MIN_EFFECTIVE_GROUPS of the mean-driven share (common practice:
+ * at least about 5 events before a normal approximation to a count is used).
+ */
+export const MIN_DRAWS_OFF_MODE = 5;
+
 /** Doubles a WeightAccumulator keeps: one slots × N block (8 bytes each; slots = B, or end − start for a range), so callers can bound memory. */
 export function storedValues(draws: number, assets: number): number {
   return draws * assets;
@@ -28,7 +41,7 @@ export function storedValues(draws: number, assets: number): number {
 /** Band statistics of one asset's weight across the successful draws of one method. */
 export interface AssetWeightSummary {
   readonly mean: number;
-  /** sd / √n of the mean. */
+  /** sd / √n of the mean; NaN (not estimable) when only 1–4 draws differ from the weight's most common value (MIN_DRAWS_OFF_MODE). */
   readonly meanStdErr: number;
   /** Sample sd, divisor n − 1. */
   readonly sd: number;
@@ -47,7 +60,7 @@ export interface AssetWeightSummary {
   readonly bandStdErr: number;
   /** Share of successful draws with |w_i| > threshold. */
   readonly selectionRate: number;
-  /** √(p(1−p)/(n−1)): sd (divisor n − 1) of the 0/1 indicator over √n. */
+  /** √(p(1−p)/(n−1)): sd (divisor n − 1) of the 0/1 indicator over √n; NaN (not estimable) when 1–4 draws are in the minority state. */
   readonly selectionRateStdErr: number;
   /** Mid-rank percentile (0..100) of the proposal's weight inside this asset's draws. */
   readonly proposalPercentile: number;
@@ -195,10 +208,12 @@ export class WeightAccumulator {
       const proposalPercentileStdErr = midRankStdErr(workspace.sort, m, proposal[i]);
       quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
       const selectionRate = m > 0 ? selected / m : Number.NaN;
+      const offMode = m - longestTie(workspace.sort, m);
+      const minority = Math.min(selected, m - selected);
       meanOfOptima[i] = moments.mean;
       perAsset.push({
         mean: moments.mean,
-        meanStdErr: moments.stdErr,
+        meanStdErr: offMode > 0 && offMode < MIN_DRAWS_OFF_MODE ? Number.NaN : moments.stdErr,
         sd: moments.sd,
         sdStdErr: sdStdErrOfStrided(this.weights, i, n, B),
         p05: bands[0],
@@ -211,7 +226,7 @@ export class WeightAccumulator {
         p50StdErr: edgeErrors[2],
         bandStdErr: Math.max(edgeErrors[0], edgeErrors[1]),
         selectionRate,
-        selectionRateStdErr: m > 1 ? Math.sqrt((selectionRate * (1 - selectionRate)) / (m - 1)) : Number.NaN,
+        selectionRateStdErr: m > 1 && !(minority > 0 && minority < MIN_DRAWS_OFF_MODE) ? Math.sqrt((selectionRate * (1 - selectionRate)) / (m - 1)) : Number.NaN,
         proposalPercentile,
         proposalPercentileStdErr,
       });
@@ -261,4 +276,15 @@ function midRankStdErr(sorted: Float64Array, n: number, x: number): number {
   const meanSquare = (100 * 100 * (below + 0.25 * equal)) / n;
   const variance = Math.max(0, ((meanSquare - mean * mean) * n) / (n - 1));
   return Math.sqrt(variance / n);
+}
+
+/** Length of the longest run of equal values in sorted[0..m) (the most common value's count; 0 when m = 0). */
+function longestTie(sorted: Float64Array, m: number): number {
+  let longest = m > 0 ? 1 : 0;
+  let run = 1;
+  for (let j = 1; j < m; j++) {
+    run = sorted[j] === sorted[j - 1] ? run + 1 : 1;
+    if (run > longest) longest = run;
+  }
+  return longest;
 }

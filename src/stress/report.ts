@@ -14,7 +14,11 @@ import { summarise } from './headline.js';
 import { PERCENTILE_DEFINITION } from '../statistics/quantiles.js';
 import type { ScalarSummary } from '../statistics/scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from '../statistics/stability.js';
+import { MIN_DRAWS_OFF_MODE } from '../statistics/weight-accumulator.js';
 
+
+/** Assets a weight-error warning names before "and N more". */
+const RARE_ASSETS_LISTED = 8;
 
 /** A finite number for the report; NaN (no successful draw) becomes 0 — only for figures of a method the report warns about ('method-not-estimable'). */
 function finite(x: number): number {
@@ -60,6 +64,18 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
         code: 'method-not-estimable',
         message: `${methodKey(spec)} succeeded in ${summary.successfulDraws} of ${plan.draws} draws: its Monte Carlo errors cannot be estimated (reported as null)${summary.successfulDraws === 0 ? ' and its draw-based figures are placeholders (0), not estimates' : ''}; see meta.failureReasons.`,
       });
+    }
+    if (summary.successfulDraws >= 2) {
+      const rare = summary.perAsset.flatMap((w, i) => (Number.isNaN(w.meanStdErr) || Number.isNaN(w.selectionRateStdErr) ? [p.assets[i]] : []));
+      if (rare.length > 0) {
+        const shown = rare.slice(0, RARE_ASSETS_LISTED).join(', ') + (rare.length > RARE_ASSETS_LISTED ? ` and ${rare.length - RARE_ASSETS_LISTED} more` : '');
+        warnings.push({
+          code: 'weight-error-not-estimable',
+          message:
+            `${methodKey(spec)}: ${rare.length === 1 ? 'one asset leaves its' : `${rare.length} assets leave their`} usual weight (mostly a bound) in only 1–${MIN_DRAWS_OFF_MODE - 1} of ${summary.successfulDraws} draws (${shown}), ` +
+            `so the Monte Carlo error of ${rare.length === 1 ? 'its' : 'their'} mean weight or selection rate rests on those few draws and cannot be estimated (reported as null); a rerun could move the figure by more than they show. More draws would help.`,
+        });
+      }
     }
     const shares = a.channels.summarize({ meanChannelFixed: !plan.solvers[k].usesMean });
     if (shares.overallErrorMethod === 'not-estimable') {

@@ -1,6 +1,6 @@
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
-import { DEFAULT_SELECTION_THRESHOLD, storedValues, WeightAccumulator } from '../../src/statistics/weight-accumulator.js';
+import { DEFAULT_SELECTION_THRESHOLD, MIN_DRAWS_OFF_MODE, storedValues, WeightAccumulator } from '../../src/statistics/weight-accumulator.js';
 import { shuffledIndices } from '../helpers/draw-order.js';
 
 // Order independence and merging are design requirements; the band statistics are checked
@@ -110,6 +110,34 @@ describe('WeightAccumulator', () => {
     const se = equal.summarize([0.25, 0.5]);
     expect(se.perAsset[0]).toMatchObject({ mean: 0.25, sd: 0, p05: 0.25, p95: 0.25, bandStdErr: 0, sdStdErr: 0, selectionRate: 1, proposalPercentile: 50 });
     expect(se.perAsset[1].proposalPercentile).toBe(0);
+  });
+
+  it('a weight that leaves its bound in 1–4 draws has no readable mean or selection-rate error; 0 draws: exactly 0; 5: a number', () => {
+    const B = 200;
+    // Asset 0 at 0 except in `moved` draws (0.3 there); asset 1 takes the rest; asset 2 always 0.
+    const summaryWith = (moved: number) => {
+      const acc = new WeightAccumulator(B, N);
+      for (let b = 0; b < B; b++) {
+        const w0 = b < moved ? 0.3 : 0;
+        acc.record(b, Float64Array.of(w0, 1 - w0, 0));
+      }
+      return acc.summarize(proposal).perAsset;
+    };
+    for (const moved of [1, MIN_DRAWS_OFF_MODE - 1]) {
+      const [rare, rest, never] = summaryWith(moved);
+      expect(rare.meanStdErr, `${moved} draws`).toBeNaN();
+      expect(rare.selectionRateStdErr, `${moved} draws`).toBeNaN();
+      // Asset 1 also leaves its usual value (1) in those draws only: the same.
+      expect(rest.meanStdErr).toBeNaN();
+      expect(never.meanStdErr).toBe(0);
+      expect(never.selectionRateStdErr).toBe(0);
+      // The percentiles keep their own rule (exact bootstrap; 0 where no rerun leaves the mass).
+      expect(rare.p50StdErr).toBe(0);
+    }
+    const [five] = summaryWith(MIN_DRAWS_OFF_MODE);
+    expect(five.meanStdErr).toBeCloseTo(Math.sqrt((5 * 195) / (200 * 199)) * 0.3 / Math.sqrt(200), 15);
+    expect(five.selectionRateStdErr).toBeCloseTo(Math.sqrt((0.025 * 0.975) / 199), 15);
+    expect(summaryWith(0)[0].meanStdErr).toBe(0);
   });
 
   it('reports its memory and rejects overlapping merges', () => {

@@ -3,7 +3,7 @@ import { ReportSchema } from '../../src/schema/report.js';
 import { validateProposal } from '../../src/schema/validate.js';
 import { optimizeProposal, stressProposal } from '../../src/stress/run.js';
 import type { ProposalInput } from '../../src/schema/proposal.js';
-import { historyProposal, momentsProposal } from '../helpers/proposals.js';
+import { demoProposal, historyProposal, momentsProposal } from '../helpers/proposals.js';
 import { parkMiller } from '../helpers/reference-data.js';
 
 function valid(p: ProposalInput) {
@@ -55,6 +55,24 @@ describe('stressProposal', () => {
     expect(minVar?.meanDrivenShare.overall).toBe(0);
     expect(minVar?.meanDrivenShare.perAsset).toEqual([0, 0, 0]);
     expect(r.meta.scheme).toBe('parametric');
+  });
+
+  it('names the assets whose mean-weight error rests on 1–4 draws and reports that error as null', async () => {
+    // Demo, 200 draws: minimum variance holds high-yield credit and commodities in only a few draws.
+    const v = valid({ ...demoProposal(), resampling: { ...demoProposal().resampling, draws: 200, seed: 'weights-rare' } });
+    const r = await stressProposal(v.proposal, v.warnings);
+    expect(ReportSchema.safeParse(r).success).toBe(true);
+    const warning = r.warnings.find((w) => w.code === 'weight-error-not-estimable' && w.message.startsWith('minimum-variance:'));
+    expect(warning?.message).toMatch(/2 assets leave their usual weight .* in only 1–4 of 200 draws \(high-yield-credit, commodities\)/);
+    const minimumVariance = r.methods.find((m) => m.method.name === 'minimum-variance');
+    for (const asset of ['high-yield-credit', 'commodities']) {
+      const w = minimumVariance?.weights.find((x) => x.asset === asset);
+      expect(w?.meanStdErr === null || w?.selectionRateStdErr === null, asset).toBe(true);
+    }
+    // Assets whose weight moves in many draws keep their errors; one pinned in every draw has exactly 0.
+    const moving = minimumVariance?.weights.filter((x) => x.sd > 0 && x.meanStdErr !== null && x.meanStdErr > 0) ?? [];
+    expect(moving.length).toBeGreaterThan(1);
+    for (const x of minimumVariance?.weights ?? []) if (x.sd === 0) expect(x.meanStdErr).toBe(0);
   });
 
   it('places a proposal equal to the base optimum near the middle of its bands', async () => {
