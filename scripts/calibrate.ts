@@ -6,8 +6,9 @@
  * for it). 1.0 is honest; the goal is 0.8–1.2. A ratio estimated from K seeds has its own noise:
  * the sd of K values has a relative sd of about 1/√(2(K−1)) (normal theory), printed beside it.
  * Figures whose error is exactly 0 in every seed and whose value never moves are counted as
- * "exact" (point masses); a figure with stdErr 0 that does move is flagged. A figure that never
- * moves (beyond rounding: spread ≤ 1e-12 × its size) but reports an error > 0 has no readable
+ * "exact" (point masses); a figure with stdErr 0 that does move is flagged; a figure whose error is
+ * null (not estimable, with a warning) in some seed is counted under "null". A figure that never
+ * moves (beyond rounding: spread ≤ 1e-12 × its size, or ≤ 1e-13) but reports an error > 0 has no readable
  * ratio (it would be 0 whatever the error) and is counted as "still", with its largest mean
  * error: a percentile on a point mass that a rare rerun leaves (full Kelly's
  * certainty-equivalent-loss median on D1) rightly reports a tiny error that 150 seeds never see.
@@ -60,7 +61,8 @@ function add(samples: Samples, kind: string, id: string, value: number, stdErr: 
   if (!byId) samples.set(kind, (byId = new Map()));
   let list = byId.get(id);
   if (!list) byId.set(id, (list = []));
-  list.push({ value, stdErr });
+  // A summary's NaN error (not estimable) is the report's null.
+  list.push({ value, stdErr: stdErr !== null && Number.isNaN(stdErr) ? null : stdErr });
 }
 
 function gateValue(report: Omit<Report, 'verdict'>, metric: GateMetric): Sample {
@@ -134,6 +136,8 @@ interface KindRow {
   figures: number;
   exact: number;
   flagged: number;
+  /** Figures whose error is null (not estimable, with a warning) in at least one seed. */
+  notEstimable: number;
   /** Figures that never moved in K seeds (beyond rounding) but report an error > 0. */
   still: number;
   /** The largest such mean error. */
@@ -145,16 +149,22 @@ interface KindRow {
 
 /** A spread across seeds at most this times the figure's size is rounding, not a move. */
 const STILL_RELATIVE_SPREAD = 1e-12;
+/**
+ * Nor is a spread below 1e-13 in absolute terms: every figure is a weight, a turnover, a
+ * volatility or a CE loss, and a weight at a bound comes out of a solve as 0 or as rounding up to
+ * ~4e-15 (full Kelly on the demo), so its median moved by 1e-16 between seeds.
+ */
+const STILL_ABSOLUTE_SPREAD = 1e-13;
 
 function ratioRows(samples: Samples): KindRow[] {
   const rows: KindRow[] = [];
   for (const [kind, byId] of samples) {
-    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, still: 0, stillLargest: 0, ratios: [], outside: [] };
+    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, notEstimable: 0, still: 0, stillLargest: 0, ratios: [], outside: [] };
     for (const [id, list] of byId) {
       row.figures++;
       const errors = list.map((s) => s.stdErr);
       if (errors.some((e) => e === null)) {
-        row.flagged++;
+        row.notEstimable++;
         continue;
       }
       const values = list.map((s) => s.value);
@@ -162,7 +172,7 @@ function ratioRows(samples: Samples): KindRow[] {
       // A spread of rounding only (the same corner portfolio's figure computed along different
       // rounding paths differs in its last bits) is no move.
       const scale = Math.max(...values.map(Math.abs));
-      const spread = rawSpread <= STILL_RELATIVE_SPREAD * scale ? 0 : rawSpread;
+      const spread = rawSpread <= Math.max(STILL_RELATIVE_SPREAD * scale, STILL_ABSOLUTE_SPREAD) ? 0 : rawSpread;
       const meanError = mean(errors as number[]);
       if (meanError === 0) {
         if (spread === 0) row.exact++;
@@ -406,7 +416,7 @@ async function main(): Promise<void> {
     const seconds = (performance.now() - started) / 1000;
     const noise = 1 / Math.sqrt(2 * (K - 1));
     console.log(`\n== ${draws} draws, K = ${K} seeds (${seconds.toFixed(0)} s); a single ratio's own noise ≈ ±${(100 * noise).toFixed(0)} % (1/√(2(K−1)))`);
-    console.log('kind                               figures  exact  flagged   ratio median   [p10 – p90]      min – max     within 0.8–1.2');
+    console.log('kind                               figures  exact  flagged  null   ratio median   [p10 – p90]      min – max     within 0.8–1.2');
     for (const row of [...ratioRows(samples), ...ratioRows(paired)]) {
       const sorted = [...row.ratios].sort((x, y) => x - y);
       const within = sorted.filter((r) => r >= 0.8 && r <= 1.2).length;
@@ -417,7 +427,7 @@ async function main(): Promise<void> {
             `${sorted[0].toFixed(2)} – ${sorted[sorted.length - 1].toFixed(2)}`.padEnd(16) +
             `${within}/${sorted.length}`.padStart(8);
       const still = row.still > 0 ? `   still ${row.still} (mean se ≤ ${row.stillLargest.toExponential(1)})` : '';
-      console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}${still}`);
+      console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${String(row.notEstimable).padStart(5)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}${still}`);
       if (row.outside.length > 0) console.log(`${''.padEnd(37)}outside 0.8–1.2: ${row.outside.map(([id, r]) => `${id} ${r.toFixed(2)}`).join(', ')}`);
     }
     const rate = (metric: GateMetric, kind: string): string => `${((100 * (fails.get(`${metric}|${kind}`) ?? 0)) / K).toFixed(1).padStart(5)} %`;
