@@ -49,7 +49,7 @@ export const StatSchema = z
     p05: z.number(),
     p50: z.number(),
     p95: z.number(),
-    p50StdErr: MonteCarloErrorSchema.optional().describe('Monte Carlo standard error of the median (order-statistic interval, see meta.monteCarloError).'),
+    p50StdErr: MonteCarloErrorSchema.optional().describe('Monte Carlo standard error of the median (exact bootstrap of the sample percentile, see meta.monteCarloError).'),
   })
   .describe('Summary over draws.');
 
@@ -68,11 +68,11 @@ export const WeightBandSchema = z.strictObject({
   p50: z.number(),
   p75: z.number(),
   p95: z.number(),
-  bandStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of p05 and p95 (the larger; order-statistic interval).'),
-  meanStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `mean` (sd/√draws).'),
-  p50StdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `p50` (order-statistic interval; exactly 0 when the draws around the median are tied).'),
+  bandStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of p05 and p95 (the larger; exact bootstrap of the sample percentile).'),
+  meanStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `mean` (sd/√draws); null (warning weight-error-not-estimable) when the weight leaves its usual value in only 1–4 draws.'),
+  p50StdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `p50` (exact bootstrap of the sample percentile; exactly 0 when the draws around the median are tied).'),
   selectionRate: z.number().min(0).max(1).describe('Share of draws where |w_i| exceeds the selection threshold.'),
-  selectionRateStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `selectionRate` (binomial, √(p(1−p)/(n−1))).'),
+  selectionRateStdErr: MonteCarloErrorSchema.describe('Monte Carlo standard error of `selectionRate` (binomial, √(p(1−p)/(n−1))); null (warning weight-error-not-estimable) when only 1–4 draws are in the minority state.'),
   proposalPercentile: z.number().min(0).max(100).describe("Where the proposal's weight falls in the resampled distribution (mid-rank percentile, 0–100)."),
 });
 

@@ -74,7 +74,7 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'null, with a warning, when the mean-only or covariance-only channel moved the weights in so few draws ' +
   '(fewer than min(5, groups/2) effective groups) that the share rests on rare draws whose error the draws cannot show). ' +
   'Selection rate: sqrt(p(1-p)/(n-1)). ' +
-  'Errors that cannot be estimated (fewer than 2 successful draws, or a mean-driven share resting on rare draws) are reported as null, with a warning. ' +
+  'Errors that cannot be estimated (fewer than 2 successful draws, a mean-driven share resting on rare draws, or a weight whose mean or selection rate rests on 1 to 4 draws off its usual value) are reported as null, with a warning. ' +
   'The gate (check) judges each rule by a one-sided confidence bound at the policy confidence (verdict rule `bound`): ' +
   'value -/+ z*SE, z = the normal quantile at the confidence (for the mean-driven share, a share in (0, 1), on the logit scale: expit(logit(v) -/+ z*SE/(v(1-v))), ' +
   'with z the Student t quantile on m-1 degrees of freedom, m = min(30, floor(B/10)) jackknife groups, as also for maxIncrease of it), except for figures that a standard error cannot gate honestly. ' +

@@ -108,7 +108,7 @@ export interface ScalarSummary extends DrawCounts {
   readonly p05: number;
   readonly p50: number;
   readonly p95: number;
-  /** Monte Carlo standard errors of the percentiles (order-statistic interval). */
+  /** Monte Carlo standard errors of the percentiles (exact bootstrap of the sample percentile). */
   readonly p05StdErr: number;
   readonly p50StdErr: number;
   readonly p95StdErr: number;

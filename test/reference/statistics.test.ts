@@ -183,7 +183,7 @@ describe('Monte Carlo checks of the error estimates', () => {
     return out;
   }
 
-  it('order-statistic SE of the median of N(0,1) draws ≈ √(π/2)/√B (asymptotic variance 1/(4 f(0)² B))', () => {
+  it('exact-bootstrap SE of the median of N(0,1) draws ≈ √(π/2)/√B (asymptotic variance 1/(4 f(0)² B))', () => {
     // Textbook result: the sample median's asymptotic variance is 1/(4 f(m)² B) (e.g. Serfling 1980,
     // Approximation Theorems of Mathematical Statistics, §2.3.3); for N(0,1), f(0) = 1/√(2π), so the
     // SE is √(π/2)/√B ≈ 1.2533/√B. Averaging R = 40 runs of B = 3000; tolerance 8 %. A second
@@ -209,7 +209,7 @@ describe('Monte Carlo checks of the error estimates', () => {
     expect(Math.abs(spread / asymptotic - 1)).toBeLessThan(0.35);
   });
 
-  it('order-statistic SE of the median for B = 60 (fallback) is also near √(π/2)/√B', () => {
+  it('exact-bootstrap SE of the median for B = 60 is also near √(π/2)/√B', () => {
     // Same textbook asymptotics at a small B; ranks are interpolated (type 7), so the estimate is
     // close to unbiased; 200 runs are averaged: accept 0.9..1.15 of the asymptotic value.
     const B = 60;

@@ -52,8 +52,9 @@ describe('D1: Monte Carlo errors on a history case', () => {
       const summary = run.acc.methods[k].weights.summarize(run.plan.problem.proposalWeights);
       summary.perAsset.forEach((a, i) => {
         const column = Float64Array.from({ length: 200 }, (_, b) => rows[b * n + i]).sort();
-        // Ranks 0..25 cover the order-statistic interval of p05 at n = 200 (5 % ± 1.96·1.54 %).
-        if (column[0] === column[25]) {
+        // Ranks 0..32 cover p05 ± 7 sds of rank at n = 200 (5 % + 7·1.54 % = 15.8 %, position 32):
+        // tied there, no plausible rerun moves the percentile.
+        if (column[0] === column[32]) {
           expect(a.p05StdErr, `${k}/${i}`).toBe(0);
           pinned++;
         }
