@@ -110,31 +110,38 @@ export interface PercentileTerm {
  * paired error of the median turnover came out 1.8× too small at 2000 draws (demo; DEVELOPERS.md).
  * The bootstrap carries the atoms into every replicate: a combination that no replicate moves
  * (both percentiles on masses that cover every plausible rank) has error exactly 0.
- * NaN when a column has fewer than 2 successful draws.
+ * NaN when a column has fewer than 2 successful draws, or fewer than 2 replicates picked some of
+ * every column's successful draws.
  */
 export function percentileCombinationStdErr(terms: readonly PercentileTerm[], draws: number, seed: Seed): number {
   if (terms.length === 0) return 0;
   if (terms.some((t) => t.column.sorted.length < 2)) return Number.NaN;
   const replicates = bootstrapCounts(seed, draws);
   const totals = new Int32Array(terms.length);
-  // Deviations from the first replicate, so identical replicates give exactly 0 (no rounding residue of a mean).
-  let first = 0;
+  // Deviations from the first usable replicate, so identical replicates give exactly 0 (no
+  // rounding residue of a mean).
+  let first = Number.NaN;
+  let used = 0;
   let sum = 0;
   let squares = 0;
-  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
+  replicates: for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) {
     const counts = replicates[r];
     let value = 0;
     for (let t = 0; t < terms.length; t++) {
       const { column, probability, coefficient } = terms[t];
       totals[t] = resampledTotal(column.order, counts);
-      if (totals[t] === 0) return Number.NaN;
+      // A replicate that picked none of a column's successful draws (a method that failed in most
+      // draws) has no percentile there: it is left out, as the draws' own failures are.
+      if (totals[t] === 0) continue replicates;
       value += coefficient * expandedQuantile(column.sorted, column.order, counts, probability, totals[t]);
     }
-    if (r === 0) first = value;
+    if (used === 0) first = value;
     const deviation = value - first;
+    used++;
     sum += deviation;
     squares += deviation * deviation;
   }
-  const mean = sum / BOOTSTRAP_REPLICATES;
-  return Math.sqrt(Math.max(0, (squares - BOOTSTRAP_REPLICATES * mean * mean) / (BOOTSTRAP_REPLICATES - 1)));
+  if (used < 2) return Number.NaN;
+  const mean = sum / used;
+  return Math.sqrt(Math.max(0, (squares - used * mean * mean) / (used - 1)));
 }

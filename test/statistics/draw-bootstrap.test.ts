@@ -40,6 +40,11 @@ describe('the bootstrap of the draws', () => {
     expect(medianDifference(a, b, 'shifted').stdErr).toBe(0);
     const lonely = Float64Array.from({ length: 300 }, (_, k) => (k === 0 ? 1 : Number.NaN));
     expect(medianDifference(a, lonely, 'one').stdErr).toBeNaN();
+    // A method that succeeded in 3 of 300 draws: about 1 replicate in 20 picks none of them and
+    // is left out, instead of making the whole error NaN.
+    const sparse = Float64Array.from({ length: 300 }, (_, k) => (k % 100 === 0 ? 0.2 + k / 1000 : Number.NaN));
+    const se = medianDifference(a, sparse, 'sparse').stdErr;
+    expect(Number.isFinite(se) && se > 0).toBe(true);
   });
 
   it('is calibrated on paired draws with atoms: spread of the median difference over 300 seeds ÷ mean error lies in 0.85–1.2', () => {
