@@ -21,6 +21,8 @@ export interface RequestShape {
   readonly groups: number;
   /** Σ over groups of their member counts. */
   readonly groupMemberships: number;
+  /** Short positions allowed (constraints.longOnly false): with groups, singular warm solves move far more (work-model.ts). */
+  readonly shorts: boolean;
   /** Numbers the caller sent (inputs, weights, bounds, views…). */
   readonly inputNumbers: number;
   /** Characters in all asset ids (they come back several times in the response). */
@@ -32,10 +34,16 @@ export interface RequestShape {
   /**
    * The dense covariance is (or may be) singular: a sample or EWMA estimate from no more rows than
    * assets, a repaired matrix (eigenvalues clipped at 0), or a supplied one that has no Cholesky
-   * factor (found by validation's PSD test). Active-set solves then run on a ridge and can take up
-   * to their iteration cap, which the work model charges.
+   * factor (found by validation's PSD test). Active-set solves then run partly on a ridge, which
+   * the work model charges (work-model.ts, singularQpUnits).
    */
   readonly singular: boolean;
+  /**
+   * Every draw's covariance is singular though the base one may not be: parametric draws of dense
+   * moments from no more observations than assets (Wishart with T − 1 < N degrees of freedom).
+   * The per-draw (warm) solves are charged as singular; the base optima and optimize are not.
+   */
+  readonly singularDraws: boolean;
   /** Kelly maximises expected log growth over the history's scenarios (not the quadratic approximation). */
   readonly scenarioKelly: boolean;
 }
@@ -80,6 +88,7 @@ export function requestShape(proposal: Proposal, methods: readonly MethodSpec[],
     repair: 'covariance' in inputs && (estimation?.repairCovariance ?? false),
     groups: groups.length,
     groupMemberships,
+    shorts: c?.longOnly === false,
     inputNumbers,
     assetIdChars: proposal.assets.reduce((total, a) => total + a.length, 0),
     methods,
@@ -90,5 +99,6 @@ export function requestShape(proposal: Proposal, methods: readonly MethodSpec[],
       knownSingular ||
       ('covariance' in inputs && (estimation?.repairCovariance ?? false)) ||
       (history && factorModel === 'none' && ['sample', 'ewma'].includes(estimation?.covariance ?? 'sample') && inputs.returns.length <= n),
+    singularDraws: 'covariance' in inputs && scheme === 'parametric' && inputs.observations <= n,
   };
 }

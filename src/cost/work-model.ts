@@ -52,6 +52,20 @@ export const COLD_GROUP_UNITS_FACTOR = 750;
  */
 export const WARM_GROUP_EXPONENT = 2;
 /**
+ * On a singular covariance the warm start saves much less: with groups, the per-draw solves took
+ * 1.3–2× the iterations of the cold solve (a singular draw's optimum sits on another flat face)
+ * and 2–6× the time of the same draws made definite (`npm run bench:singular`, 2026-12-02:
+ * parametric draws of N = 200 with 50 groups and shorts, 437 ms against 73 ms with 999
+ * observations; N = 100 with 100 groups and shorts, 678 against 164 ms). So a warm solve on a
+ * singular covariance pays GROUP_UNITS_FACTOR's term times min(1, G / N) long-only, and
+ * min(1, 2·G / N) with shorts, instead of min(1, G / N)². The share of the undiscounted term each
+ * measured worst solve needed at the reference rate, per unit of G / N: long-only ≤ 0.43 (N = 300
+ * with 100 groups, observations 6: 3.2 s per solve, 1384 iterations), with shorts ≤ 1.16 (N = 300
+ * with 150 groups: 22.7 s, 3958 iterations; with 100 groups 0.84), so the charge is ≥ 1.7× each.
+ */
+export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO = 1;
+export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO_SHORTS = 2;
+/**
  * Fixed cost of any solve, whatever its size: the result object, KKT residual, diagnostics and
  * warnings (measured: 0.1–0.5 ms per solve at N ≤ 30, where the flop counts are a few thousand;
  * charged at 2e5 so the demo stays near 2 ns per unit).
@@ -71,11 +85,43 @@ export const KELLY_WARM_NEWTON_STEPS = 3;
 export type SolveStart = 'cold' | 'warm';
 
 /**
- * A dense active-set solve on a singular covariance runs on a ridge and may use its whole
- * iteration budget, max(200, 10·(N + G)) iterations of ~8·N² each (measured: N = 600, rank 2,
- * 6000 iterations in ~1.5e10 units' time).
+ * A dense active-set solve on a singular covariance (RequestShape.singular) runs part of its way
+ * on a ridge (qp-hessian.ts, level 2): more iterations than on a definite Σ, each dearer (factor
+ * updates and refactorisations of a near-singular H_FF). Charged on top of the dense QP's
+ * N³/3 + 20N², cold or warm: SINGULAR_QP_ITERATIONS_PER_VARIABLE · (N + G) iterations of
+ * SINGULAR_QP_UNITS_PER_ITERATION_N2 · N² units each, i.e. (N + G)·N².
+ *
+ * Fitted 2026-12-02 (`npm run bench:singular`, CPU time per solve, after the flat-face fix in
+ * qp-active-set.ts) on ranks 1, 2, 5, N/2 and N − 1, N = 150–650, minimum-variance and
+ * mean-variance (λ 0.1–50), long-only, capped, with shorts, with 50 and 200 overlapping groups;
+ * cold solves and the per-draw (warm) solves of stress runs: sample covariances of T ≤ N rows and
+ * parametric draws with observations ≤ N (every Wishart draw singular). The dense reference (the
+ * N = 650 all-methods optimize) ran at 7.0–13 ns/unit in the same runs.
+ * - Iterations: at most 1.3·(N + G) without groups (cold), 2.0–2.35·(N + G) with them (cold: rank
+ *   N − 1, minimum-variance, N = 550 with 50 groups, 1295; warm: a riskless long-only portfolio,
+ *   mean-variance λ = 0.5, N = 550 with 50 groups, 1229). 2 per (N + G) is charged.
+ * - Cost per iteration: 2.3–3.3 ns·N² at N = 550–650 (up to 5 ns·N² at N = 400 when few
+ *   iterations share a refactorisation), ~0.45 units·N² at the reference rate; 0.5 is charged.
+ * - Worst whole solves against the price without this term, at the reference rate: cold 1.1–1.2×
+ *   (N = 650, rank N/2, mean-variance with shorts: 752 iterations, 0.9 s), warm 1.74× (the
+ *   riskless N = 550, 50-group case: 1.2 s, more than its cold solve), parametric draws with
+ *   observations ≤ N 1.19×. With the term every measured solve is priced at ≤ 0.6× the reference
+ *   rate (the worst rate the model allows elsewhere is ~1.7×, DEVELOPERS.md).
+ * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, was fitted on the
+ * solver before that fix (N = 600, rank 2, 62 s) and priced these solves 50–200× above their cost.
  */
-export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 8;
+export const SINGULAR_QP_ITERATIONS_PER_VARIABLE = 2;
+export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 0.5;
+
+/** Whether this solve's covariance is (or may be) singular: the base one, or every draw's (warm solves only). */
+export function singularSolve(s: RequestShape, start: SolveStart): boolean {
+  return s.singular || (start === 'warm' && s.singularDraws);
+}
+
+/** The singular term of one dense active-set solve (0 for a definite covariance). */
+export function singularQpUnits(s: RequestShape, start: SolveStart = 'cold'): number {
+  return singularSolve(s, start) ? SINGULAR_QP_ITERATIONS_PER_VARIABLE * (s.n + s.groups) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * s.n * s.n : 0;
+}
 
 export const usesMean = (spec: MethodSpec): boolean => spec.name === 'mean-variance' || spec.name === 'kelly';
 
@@ -117,7 +163,12 @@ export function estimationUnits(s: RequestShape): number {
 export function groupUnits(s: RequestShape, start: SolveStart = 'cold'): number {
   if (s.groups === 0) return 0;
   const rows = (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
-  return start === 'cold' ? COLD_GROUP_UNITS_FACTOR * rows : GROUP_UNITS_FACTOR * rows * Math.min(1, s.groups / s.n) ** WARM_GROUP_EXPONENT;
+  if (start === 'cold') return COLD_GROUP_UNITS_FACTOR * rows;
+  const ratio = s.groups / s.n;
+  const share = singularSolve(s, start)
+    ? Math.min(1, (s.shorts ? SINGULAR_WARM_GROUP_SHARE_PER_RATIO_SHORTS : SINGULAR_WARM_GROUP_SHARE_PER_RATIO) * ratio)
+    : Math.min(1, ratio) ** WARM_GROUP_EXPONENT;
+  return GROUP_UNITS_FACTOR * rows * share;
 }
 
 /** One solve of a method on dense or factor inputs, cold (a base optimum) or warm-started (a draw). */
@@ -130,8 +181,7 @@ function solveWorkUnits(spec: MethodSpec, s: RequestShape, start: SolveStart): n
   const dense = s.inputKind !== 'factor-moments' && !(s.inputKind === 'history' && s.factorModel !== 'none');
   // Factor QPs: Woodbury updates cost O(N·K²) per active-set change, and warm starts still make a
   // few dozen changes at large N (measured: ~3× the dense rate per counted operation at N = 2000, K = 8).
-  const singularIterations = s.singular ? Math.max(200, 10 * (n + s.groups)) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * n * n : 0;
-  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularIterations : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s, start);
+  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularQpUnits(s, start) : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s, start);
   switch (spec.name) {
     case 'mean-variance':
     case 'minimum-variance':

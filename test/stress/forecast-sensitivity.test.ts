@@ -164,12 +164,14 @@ describe('the work of the table', () => {
       repair: false,
       groups: groups.length,
       groupMemberships: groups.reduce((total, g) => total + g.members.length, 0),
+      shorts: false,
       inputNumbers: 0,
       assetIdChars: 0,
       methods: plan.problem.methods,
       draws: 1,
       scheme: 'parametric',
       singular: false,
+      singularDraws: false,
       scenarioKelly: false,
     };
     const expected = forecastSensitivityOps([plan.problem.methods[0]], shape) + forecastSensitivityOps([plan.problem.methods[2]], shape);
