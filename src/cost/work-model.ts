@@ -52,16 +52,17 @@ export const COLD_GROUP_UNITS_FACTOR = 750;
  */
 export const WARM_GROUP_EXPONENT = 2;
 /**
- * On a singular covariance the warm start saves much less: with groups, the per-draw solves took
- * 1.3–2× the iterations of the cold solve (a singular draw's optimum sits on another flat face)
- * and 2–6× the time of the same draws made definite (`npm run bench:singular`, 2026-12-02:
- * parametric draws of N = 200 with 50 groups and shorts, 437 ms against 73 ms with 999
- * observations; N = 100 with 100 groups and shorts, 678 against 164 ms). So a warm solve on a
- * singular covariance pays GROUP_UNITS_FACTOR's term times min(1, G / N) long-only, and
- * min(1, 2·G / N) with shorts, instead of min(1, G / N)². The share of the undiscounted term each
- * measured worst solve needed at the reference rate, per unit of G / N: long-only ≤ 0.43 (N = 300
- * with 100 groups, observations 6: 3.2 s per solve, 1384 iterations), with shorts ≤ 1.16 (N = 300
- * with 150 groups: 22.7 s, 3958 iterations; with 100 groups 0.84), so the charge is ≥ 1.7× each.
+ * With groups, a warm solve on a singular covariance (RequestShape.singular, or singularDraws:
+ * every draw singular) saves much less: the per-draw solves took 1.3–2× the iterations of the
+ * cold solve (a singular draw's optimum sits on another flat face) and 2–6× the time of the same
+ * draws made definite (`npm run bench:singular`, 2026-12-02: parametric draws of N = 200 with 50
+ * groups and shorts, 437 ms per solve against 73 ms with 999 observations; N = 100 with 100 groups
+ * and shorts, 678 against 164 ms). So it pays GROUP_UNITS_FACTOR's term times min(1, G / N)
+ * long-only and min(1, 2·G / N) with shorts, instead of min(1, G / N)². Worst measured warm
+ * solves (observations 6, mean-variance λ = 0.5, N = 300), charged that way, at the reference
+ * rate (the N = 650 optimize in the same run): 150 groups long-only 14.4 s, 2769 iterations, 0.60×
+ * (1.19× at the old share); 150 groups with shorts 22.7 s, 3958 iterations, 0.59× (2.3×); 100
+ * groups with shorts 6.3 s, 0.41× (2.4×); 100 groups long-only 3.2 s, 0.32× (0.98×).
  */
 export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO = 1;
 export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO_SHORTS = 2;
@@ -85,30 +86,30 @@ export const KELLY_WARM_NEWTON_STEPS = 3;
 export type SolveStart = 'cold' | 'warm';
 
 /**
- * A dense active-set solve on a singular covariance (RequestShape.singular) runs part of its way
- * on a ridge (qp-hessian.ts, level 2): more iterations than on a definite Σ, each dearer (factor
- * updates and refactorisations of a near-singular H_FF). Charged on top of the dense QP's
- * N³/3 + 20N², cold or warm: SINGULAR_QP_ITERATIONS_PER_VARIABLE · (N + G) iterations of
+ * A cold dense active-set solve on a singular covariance (RequestShape.singular) runs part of its
+ * way on a ridge (qp-hessian.ts, level 2): about as many iterations as on a definite Σ, but each
+ * dearer (factor updates and refactorisations of a near-singular H_FF: 2.3–3.3 ns·N² an
+ * iteration at N = 550–650 against 0.4 on a definite Σ). Charged on top of the dense QP's
+ * N³/3 + 20N²: SINGULAR_QP_ITERATIONS_PER_VARIABLE · (N + G) iterations of
  * SINGULAR_QP_UNITS_PER_ITERATION_N2 · N² units each, i.e. (N + G)·N².
  *
  * Fitted 2026-12-02 (`npm run bench:singular`, CPU time per solve, after the flat-face fix in
- * qp-active-set.ts) on ranks 1, 2, 5, N/2 and N − 1, N = 150–650, minimum-variance and
- * mean-variance (λ 0.1–50), long-only, capped, with shorts, with 50 and 200 overlapping groups;
- * cold solves and the per-draw (warm) solves of stress runs: sample covariances of T ≤ N rows and
- * parametric draws with observations ≤ N (every Wishart draw singular). The dense reference (the
- * N = 650 all-methods optimize) ran at 7.0–13 ns/unit in the same runs.
- * - Iterations: at most 1.3·(N + G) without groups (cold), 2.0–2.35·(N + G) with them (cold: rank
- *   N − 1, minimum-variance, N = 550 with 50 groups, 1295; warm: a riskless long-only portfolio,
- *   mean-variance λ = 0.5, N = 550 with 50 groups, 1229). 2 per (N + G) is charged.
- * - Cost per iteration: 2.3–3.3 ns·N² at N = 550–650 (up to 5 ns·N² at N = 400 when few
- *   iterations share a refactorisation), ~0.45 units·N² at the reference rate; 0.5 is charged.
- * - Worst whole solves against the price without this term, at the reference rate: cold 1.1–1.2×
- *   (N = 650, rank N/2, mean-variance with shorts: 752 iterations, 0.9 s), warm 1.74× (the
- *   riskless N = 550, 50-group case: 1.2 s, more than its cold solve), parametric draws with
- *   observations ≤ N 1.19×. With the term every measured solve is priced at ≤ 0.6× the reference
- *   rate (the worst rate the model allows elsewhere is ~1.7×, DEVELOPERS.md).
- * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, was fitted on the
- * solver before that fix (N = 600, rank 2, 62 s) and priced these solves 50–200× above their cost.
+ * qp-active-set.ts) on ranks 1, 2, 5, N/2, N − 1 (with and without a riskless long-only
+ * portfolio), N = 50–650, minimum-variance and mean-variance (λ 0.1–50), long-only, capped, with
+ * shorts, with 10–150 overlapping groups; sample covariances of T ≤ N rows, supplied and
+ * repaired ones, and parametric draws from observations ≤ N. The dense reference (the N = 650
+ * all-methods optimize) ran at 7.0–13.8 ns/unit in the same runs.
+ * - Iterations: at most 1.3·(N + G) cold without groups, up to 2.35·(N + G) with 50 groups
+ *   (rank N − 1, minimum-variance, N = 550: 1295) and 13.7·N with 150 (charged by the group term).
+ * - Worst cold solves against the price without this term, at the reference rate: 1.2× (N = 650,
+ *   rank N/2, mean-variance λ 8 with shorts: 752 iterations, 0.9 s; a history of 326 rows the
+ *   same), 1.4–1.8× at N = 400 (rank 1, mean-variance λ 0.5: 0.2–0.35 s). With the term: ≤ 0.5×.
+ * - Warm solves need no such term: without groups the worst measured was 0.72× the price without
+ *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms); with groups see
+ *   SINGULAR_WARM_GROUP_SHARE_PER_RATIO.
+ * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, on every solve, was
+ * fitted on the solver before that fix (N = 600, rank 2, 62 s) and priced these solves 50–200×
+ * above their cost: it refused every singular stress above N ≈ 100 and optimize above N = 550.
  */
 export const SINGULAR_QP_ITERATIONS_PER_VARIABLE = 2;
 export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 0.5;
@@ -118,9 +119,9 @@ export function singularSolve(s: RequestShape, start: SolveStart): boolean {
   return s.singular || (start === 'warm' && s.singularDraws);
 }
 
-/** The singular term of one dense active-set solve (0 for a definite covariance). */
+/** The singular term of one cold dense active-set solve (0 for a definite covariance, and for warm solves). */
 export function singularQpUnits(s: RequestShape, start: SolveStart = 'cold'): number {
-  return singularSolve(s, start) ? SINGULAR_QP_ITERATIONS_PER_VARIABLE * (s.n + s.groups) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * s.n * s.n : 0;
+  return start === 'cold' && s.singular ? SINGULAR_QP_ITERATIONS_PER_VARIABLE * (s.n + s.groups) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * s.n * s.n : 0;
 }
 
 export const usesMean = (spec: MethodSpec): boolean => spec.name === 'mean-variance' || spec.name === 'kelly';
