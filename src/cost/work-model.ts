@@ -53,16 +53,19 @@ export const COLD_GROUP_UNITS_FACTOR = 750;
 export const WARM_GROUP_EXPONENT = 2;
 /**
  * With groups, a warm solve on a singular covariance (RequestShape.singular, or singularDraws:
- * every draw singular) saves much less: the per-draw solves took 1.3–2× the iterations of the
- * cold solve (a singular draw's optimum sits on another flat face) and 2–6× the time of the same
+ * every draw singular, e.g. a bootstrap of N < T ≤ N/0.632 rows: N = 400, T = 480, 50 groups and
+ * shorts took 435 ms, 0.97× the reference rate at the old share, 0.1× now) saves much less: the
+ * per-draw solves took 1.3–2× the iterations of the cold solve (a singular draw's optimum sits on
+ * another flat face) and 4–6× the time of the same
  * draws made definite (`npm run bench:singular`, 2026-12-02: parametric draws of N = 200 with 50
  * groups and shorts, 437 ms per solve against 73 ms with 999 observations; N = 100 with 100 groups
  * and shorts, 678 against 164 ms). So it pays GROUP_UNITS_FACTOR's term times min(1, G / N)
  * long-only and min(1, 2·G / N) with shorts, instead of min(1, G / N)². Worst measured warm
  * solves (observations 6, mean-variance λ = 0.5, N = 300), charged that way, at the reference
- * rate (the N = 650 optimize in the same run): 150 groups long-only 14.4 s, 2769 iterations, 0.60×
- * (1.19× at the old share); 150 groups with shorts 22.7 s, 3958 iterations, 0.59× (2.3×); 100
- * groups with shorts 6.3 s, 0.41× (2.4×); 100 groups long-only 3.2 s, 0.32× (0.98×).
+ * rate (the faster of the N = 650 optimize's two readings in the same run): 150 groups long-only
+ * 14.4 s per solve, 2769 iterations, 0.84× (1.66× at the old share); 150 groups with shorts 22.7 s,
+ * 3958 iterations, 0.59× (2.33×); 100 groups with shorts 6.3 s, 0.41× (2.39×); 100 groups
+ * long-only 3.2 s, 0.47× (1.37×).
  */
 export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO = 1;
 export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO_SHORTS = 2;
@@ -104,12 +107,13 @@ export type SolveStart = 'cold' | 'warm';
  * - Worst cold solves against the price without this term, at the reference rate: 1.2× (N = 650,
  *   rank N/2, mean-variance λ 8 with shorts: 752 iterations, 0.9 s; a history of 326 rows the
  *   same), 1.4–1.8× at N = 400 (rank 1, mean-variance λ 0.5: 0.2–0.35 s). With the term: ≤ 0.5×.
- * - Warm solves need no such term: without groups the worst measured was 0.72× the price without
+ * - Warm solves need no such term: without groups the worst measured was 0.76× the price without
  *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms); with groups see
  *   SINGULAR_WARM_GROUP_SHARE_PER_RATIO.
  * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, on every solve, was
- * fitted on the solver before that fix (N = 600, rank 2, 62 s) and priced these solves 50–200×
- * above their cost: it refused every singular stress above N ≈ 100 and optimize above N = 550.
+ * fitted on the solver before that fix (N = 600, rank 2, 62 s) and priced these solves 55–500×
+ * above their cost: a stress of a history of T = N/2 rows at 500 draws was accepted up to N = 70
+ * (minimum-variance) by work, now 340; a singular optimize up to N = 550, now to the memory limit.
  */
 export const SINGULAR_QP_ITERATIONS_PER_VARIABLE = 2;
 export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 0.5;

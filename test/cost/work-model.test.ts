@@ -133,7 +133,7 @@ describe('singular dense covariance', () => {
     expect(Math.max(200, 10 * 400) * 8 * 400 ** 2).toBeGreaterThan(50 * singularQpUnits(s, 'cold'));
   });
 
-  it('flags what may be singular: histories of T ≤ N rows, repaired and supplied singular Σ; parametric draws from observations ≤ N per draw only', () => {
+  it('flags what may be singular: histories of T ≤ N rows, repaired and supplied singular Σ; per draw only: parametric draws from observations ≤ N, bootstrap draws of T ≤ N/0.632 rows', () => {
     expect(caseShape('history:100:99:minvar:long').singular).toBe(true);
     expect(caseShape('history:100:100:minvar:long').singular).toBe(false);
     expect(caseShape('repair:100:5:minvar:long').singular).toBe(true);
@@ -142,6 +142,9 @@ describe('singular dense covariance', () => {
     const draws = caseShape('fewobs:100:99:minvar:long');
     expect([draws.singular, draws.singularDraws]).toEqual([false, true]);
     expect(caseShape('fewobs:100:100:minvar:long').singularDraws).toBe(false);
+    // A bootstrap of T rows holds ~0.632·T distinct ones: 120 rows for 100 assets resample singular, 200 do not.
+    expect(caseShape('history:100:119:minvar:long').singularDraws).toBe(true);
+    expect(caseShape('history:100:199:minvar:long').singularDraws).toBe(false);
     // Optimize has no draws: the base solve of such moments is priced as definite.
     expect(solveUnits(draws.methods[0], draws, 'cold')).toBe(solveUnits(draws.methods[0], { ...draws, singularDraws: false }, 'cold'));
   });
