@@ -21,8 +21,6 @@ export interface RequestShape {
   readonly groups: number;
   /** Σ over groups of their member counts. */
   readonly groupMemberships: number;
-  /** Short positions allowed (constraints.longOnly false): with groups, singular warm solves move far more (work-model.ts). */
-  readonly shorts: boolean;
   /** Numbers the caller sent (inputs, weights, bounds, views…). */
   readonly inputNumbers: number;
   /** Characters in all asset ids (they come back several times in the response). */
@@ -98,7 +96,6 @@ export function requestShape(proposal: Proposal, methods: readonly MethodSpec[],
     repair: 'covariance' in inputs && (estimation?.repairCovariance ?? false),
     groups: groups.length,
     groupMemberships,
-    shorts: c?.longOnly === false,
     inputNumbers,
     assetIdChars: proposal.assets.reduce((total, a) => total + a.length, 0),
     methods,

@@ -53,22 +53,23 @@ export const COLD_GROUP_UNITS_FACTOR = 750;
 export const WARM_GROUP_EXPONENT = 2;
 /**
  * With groups, a warm solve on a singular covariance (RequestShape.singular, or singularDraws:
- * every draw singular, e.g. a bootstrap of N < T ≤ N/0.632 rows: N = 400, T = 480, 50 groups and
- * shorts took 435 ms, 0.97× the reference rate at the old share, 0.1× now) saves much less: the
- * per-draw solves took 1.3–2× the iterations of the cold solve (a singular draw's optimum sits on
- * another flat face) and 4–6× the time of the same
- * draws made definite (`npm run bench:singular`, 2026-12-02: parametric draws of N = 200 with 50
- * groups and shorts, 437 ms per solve against 73 ms with 999 observations; N = 100 with 100 groups
- * and shorts, 678 against 164 ms). So it pays GROUP_UNITS_FACTOR's term times min(1, G / N)
- * long-only and min(1, 2·G / N) with shorts, instead of min(1, G / N)². Worst measured warm
- * solves (observations 6, mean-variance λ = 0.5, N = 300), charged that way, at the reference
- * rate (the faster of the N = 650 optimize's two readings in the same run): 150 groups long-only
- * 14.4 s per solve, 2769 iterations, 0.84× (1.66× at the old share); 150 groups with shorts 22.7 s,
- * 3958 iterations, 0.59× (2.33×); 100 groups with shorts 6.3 s, 0.41× (2.39×); 100 groups
- * long-only 3.2 s, 0.47× (1.37×).
+ * every draw singular) saves less than on a definite one: the per-draw solves took 1.3–2× the
+ * iterations of the cold solve (a singular draw's optimum sits on another flat face) and 4–6× the
+ * time of the same draws made definite (`npm run bench:singular`, 2026-12-02: parametric draws of
+ * N = 200 with 50 groups and shorts, 437 ms per solve against 73 ms with 999 observations; N = 100
+ * with 100 groups and shorts, 678 against 164 ms). Priced with the definite share min(1, G / N)²,
+ * the worst warm solves ran at 1.4–2.4× the reference rate (the faster of the N = 650 optimize's
+ * two readings in the same run), long-only or with shorts alike:
+ * observations 6, mean-variance λ = 0.5, N = 300 with 100 groups and shorts 6.3 s per solve, 2707
+ * iterations, 2.39×; with 150 groups and shorts 22.7 s, 3958 iterations, 2.33×; 150 groups
+ * long-only 14.4 s, 1.66×; N = 400 with 50 groups and shorts 0.8 s, 1.78×; a bootstrap of T = 480
+ * rows for N = 400 with 50 groups and shorts 0.97× (see singularDraws). So a singular warm solve
+ * pays the share times SINGULAR_WARM_GROUP_MULTIPLIER (capped at the whole term): those at
+ * ≤ 0.7× the reference rate. The highest left is a riskless long-only portfolio (rank N − 1,
+ * N = 550, 50 groups, mean-variance λ = 0.5: 1.2 s, 1229 iterations, 0.9×), where the dense
+ * iterations, not the groups, dominate.
  */
-export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO = 1;
-export const SINGULAR_WARM_GROUP_SHARE_PER_RATIO_SHORTS = 2;
+export const SINGULAR_WARM_GROUP_MULTIPLIER = 4;
 /**
  * Fixed cost of any solve, whatever its size: the result object, KKT residual, diagnostics and
  * warnings (measured: 0.1–0.5 ms per solve at N ≤ 30, where the flop counts are a few thousand;
@@ -109,7 +110,7 @@ export type SolveStart = 'cold' | 'warm';
  *   same), 1.4–1.8× at N = 400 (rank 1, mean-variance λ 0.5: 0.2–0.35 s). With the term: ≤ 0.5×.
  * - Warm solves need no such term: without groups the worst measured was 0.76× the price without
  *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms); with groups see
- *   SINGULAR_WARM_GROUP_SHARE_PER_RATIO.
+ *   SINGULAR_WARM_GROUP_MULTIPLIER.
  * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, on every solve, was
  * fitted on the solver before that fix (N = 600, rank 2, 62 s) and priced these solves 55–500×
  * above their cost: a stress of a history of T = N/2 rows at 500 draws was accepted up to N = 70
@@ -170,9 +171,7 @@ export function groupUnits(s: RequestShape, start: SolveStart = 'cold'): number 
   const rows = (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
   if (start === 'cold') return COLD_GROUP_UNITS_FACTOR * rows;
   const ratio = s.groups / s.n;
-  const share = singularSolve(s, start)
-    ? Math.min(1, (s.shorts ? SINGULAR_WARM_GROUP_SHARE_PER_RATIO_SHORTS : SINGULAR_WARM_GROUP_SHARE_PER_RATIO) * ratio)
-    : Math.min(1, ratio) ** WARM_GROUP_EXPONENT;
+  const share = Math.min(1, (singularSolve(s, start) ? SINGULAR_WARM_GROUP_MULTIPLIER : 1) * Math.min(1, ratio) ** WARM_GROUP_EXPONENT);
   return GROUP_UNITS_FACTOR * rows * share;
 }
 

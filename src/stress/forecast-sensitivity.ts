@@ -66,7 +66,6 @@ function workShapeOf(problem: PreparedProblem, scenarioCount: number): RequestSh
     repair: false,
     groups: problem.constraints.groups.length,
     groupMemberships: problem.constraints.groups.reduce((total, g) => total + g.members.length, 0),
-    shorts: false,
     inputNumbers: 0,
     assetIdChars: 0,
     methods: problem.methods,

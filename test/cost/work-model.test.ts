@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { effectiveMaxWork, priceRequest } from '../../src/cost/check.js';
 import { memoryBreakdown, requestMemory } from '../../src/cost/memory-model.js';
 import { requestShape } from '../../src/cost/request-shape.js';
-import { COLD_GROUP_UNITS_FACTOR, GROUP_UNITS_FACTOR, groupUnits, optimizeBreakdown, requestWork, singularQpUnits, solveUnits, stressBreakdown, usesMean } from '../../src/cost/work-model.js';
+import { COLD_GROUP_UNITS_FACTOR, GROUP_UNITS_FACTOR, groupUnits, optimizeBreakdown, requestWork, SINGULAR_WARM_GROUP_MULTIPLIER, singularQpUnits, solveUnits, stressBreakdown, usesMean } from '../../src/cost/work-model.js';
 import { LIMITS } from '../../src/schema/limits.js';
 import { ProposalSchema, type ProposalInput } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
@@ -149,15 +149,14 @@ describe('singular dense covariance', () => {
     expect(solveUnits(draws.methods[0], draws, 'cold')).toBe(solveUnits(draws.methods[0], { ...draws, singularDraws: false }, 'cold'));
   });
 
-  it('prices a warm singular solve with groups at min(1, G/N) of the group term long-only, min(1, 2G/N) with shorts', () => {
-    const long = caseShape('fewobs:300:5:mv0.5:g100');
-    const shorts = caseShape('fewobs:300:5:mv0.5:sg100');
-    expect([long.shorts, shorts.shorts]).toEqual([false, true]);
+  it('prices a warm singular solve with groups at SINGULAR_WARM_GROUP_MULTIPLIER times the definite share min(1, G/N)², capped at 1', () => {
+    const few = caseShape('fewobs:400:5:mv0.5:sg50');
+    const many = caseShape('fewobs:300:5:mv0.5:g150');
     // The undiscounted warm term: GROUP_UNITS_FACTOR (the cold solve pays COLD_GROUP_UNITS_FACTOR).
-    const full = (s: typeof long): number => (groupUnits(s, 'cold') * GROUP_UNITS_FACTOR) / COLD_GROUP_UNITS_FACTOR;
-    expect(groupUnits(long, 'warm') / full(long)).toBeCloseTo(100 / 300, 12);
-    expect(groupUnits(shorts, 'warm') / full(shorts)).toBeCloseTo(200 / 300, 12);
-    expect(groupUnits({ ...long, singularDraws: false }, 'warm') / full(long)).toBeCloseTo((100 / 300) ** 2, 12);
+    const full = (s: typeof few): number => (groupUnits(s, 'cold') * GROUP_UNITS_FACTOR) / COLD_GROUP_UNITS_FACTOR;
+    expect(groupUnits(few, 'warm') / full(few)).toBeCloseTo(SINGULAR_WARM_GROUP_MULTIPLIER * (50 / 400) ** 2, 12);
+    expect(groupUnits({ ...few, singularDraws: false }, 'warm') / full(few)).toBeCloseTo((50 / 400) ** 2, 12);
+    expect(groupUnits(many, 'warm') / full(many)).toBe(1);
   });
 
   it('accepts the singular requests the iteration-cap charge refused, within the work limit', () => {

@@ -164,7 +164,6 @@ describe('the work of the table', () => {
       repair: false,
       groups: groups.length,
       groupMemberships: groups.reduce((total, g) => total + g.members.length, 0),
-      shorts: false,
       inputNumbers: 0,
       assetIdChars: 0,
       methods: plan.problem.methods,
