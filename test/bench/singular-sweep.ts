@@ -113,15 +113,15 @@ for (const label of values.cases.split(',').filter(Boolean)) {
   const cold: SolveRecord[] = [];
   for (let r = 0; r < coldRepeats; r++) cold.push(timedSolve(createMethodSolver(spec, prepared, { scenarioKelly: false }), inputs));
   if (coldRepeats > 0) {
-  const coldMs = median(cold.map((x) => x.ms));
-  const coldIt = median(cold.map((x) => x.iterations));
-  const coldUnits = solveUnits(spec, shape, 'cold');
-  const nonSingular = solveUnits(spec, { ...shape, singular: false, singularDraws: false }, 'cold');
-  const previous = nonSingular + previousSingularTerm(shape, c);
-  rows.push(
-    `| ${label} | cold | ${cold.length} | ${cold.filter((x) => x.ok).length} | ${coldIt} | ${(coldIt / n).toFixed(2)} | ${coldMs.toFixed(1)} [${cold.map((x) => x.ms.toFixed(1)).join(', ')}] | ${perIt(coldMs, coldIt)} | ${fmt(previous)} | ${fmt(coldUnits)} | ${fmt(nonSingular)} |`,
-  );
-  console.error(rows[rows.length - 1]);
+    const coldMs = median(cold.map((x) => x.ms));
+    const coldIt = median(cold.map((x) => x.iterations));
+    const coldUnits = solveUnits(spec, shape, 'cold');
+    const nonSingular = solveUnits(spec, { ...shape, singular: false, singularDraws: false }, 'cold');
+    const previous = nonSingular + previousSingularTerm(shape, c);
+    rows.push(
+      `| ${label} | cold | ${cold.length} | ${cold.filter((x) => x.ok).length} | ${coldIt} | ${(coldIt / n).toFixed(2)} | ${coldMs.toFixed(1)} [${cold.map((x) => x.ms.toFixed(1)).join(', ')}] | ${perIt(coldMs, coldIt)} | ${fmt(previous)} | ${fmt(coldUnits)} | ${fmt(nonSingular)} |`,
+    );
+    console.error(rows[rows.length - 1]);
   }
   if (drawCount > 0) {
     const body = { ...c.body, resampling: { ...c.body.resampling, draws: drawCount, seed: 'singular' } };
