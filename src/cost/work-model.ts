@@ -59,11 +59,11 @@ export const WARM_GROUP_EXPONENT = 2;
  * N = 200 with 50 groups and shorts, 437 ms per solve against 73 ms with 999 observations; N = 100
  * with 100 groups and shorts, 678 against 164 ms). Priced with the definite share min(1, G / N)²,
  * the worst warm solves ran at 1.4–2.4× the reference rate (the faster of the N = 650 optimize's
- * two readings in the same run), long-only or with shorts alike:
- * observations 6, mean-variance λ = 0.5, N = 300 with 100 groups and shorts 6.3 s per solve, 2707
+ * two readings in the same run), long-only or with shorts alike (observations 6, mean-variance
+ * λ = 0.5): N = 300 with 100 groups and shorts 6.3 s per solve, 2707
  * iterations, 2.39×; with 150 groups and shorts 22.7 s, 3958 iterations, 2.33×; 150 groups
- * long-only 14.4 s, 1.66×; N = 400 with 50 groups and shorts 0.8 s, 1.78×; a bootstrap of T = 480
- * rows for N = 400 with 50 groups and shorts 0.97× (see singularDraws). So a singular warm solve
+ * long-only 14.4 s, 1.66×; N = 400 with 50 groups and shorts 0.8 s, 1.78×; and a bootstrap of
+ * T = 480 rows for N = 400 with 50 groups and shorts 0.97× (see singularDraws). So a singular warm solve
  * pays the share times SINGULAR_WARM_GROUP_MULTIPLIER (capped at the whole term): those at
  * ≤ 0.7× the reference rate. The highest left is a riskless long-only portfolio (rank N − 1,
  * N = 550, 50 groups, mean-variance λ = 0.5: 1.2 s, 1229 iterations, 0.9×), where the dense
@@ -107,7 +107,8 @@ export type SolveStart = 'cold' | 'warm';
  *   (rank N − 1, minimum-variance, N = 550: 1295) and 13.7·N with 150 (charged by the group term).
  * - Worst cold solves against the price without this term, at the reference rate: 1.2× (N = 650,
  *   rank N/2, mean-variance λ 8 with shorts: 752 iterations, 0.9 s; a history of 326 rows the
- *   same), 1.4–1.8× at N = 400 (rank 1, mean-variance λ 0.5: 0.2–0.35 s). With the term: ≤ 0.5×.
+ *   same); 1.8× for one first solve of a process at N = 400 (rank 1, mean-variance λ 0.5:
+ *   0.35 s), 0.8× repeated (0.22 s). With the term: ≤ 0.5×.
  * - Warm solves need no such term: without groups the worst measured was 0.76× the price without
  *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms); with groups see
  *   SINGULAR_WARM_GROUP_MULTIPLIER.
