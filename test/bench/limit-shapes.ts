@@ -102,7 +102,7 @@ function denseProbe(n: number, extra: Partial<ProposalInput> = {}): ProposalInpu
 }
 
 /** A history of N/2 + 1 rows with shorts allowed (priced from its lengths alone, see `fits`). */
-function buildCaseProbe(n: number): ProposalInput {
+function singularHistoryProbe(n: number): ProposalInput {
   const a = ids(n);
   const row = new Array<number>(n).fill(0);
   return { assets: a, weights: a.map(() => 1 / n), inputs: { returns: Array.from({ length: n / 2 + 1 }, () => row), periodsPerYear: 12 }, method: { name: 'minimum-variance' }, compare: [], constraints: { longOnly: false, lower: -0.1, upper: 0.2 } };
@@ -165,7 +165,7 @@ export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimi
   // slowest warm solves (parametric draws from 6 observations, shorts and 50 groups); and the
   // common case, a history of fewer rows than assets, with many draws.
   if (want('singular')) {
-    const singularN = largestN('optimize', (n) => ({ ...buildCaseProbe(n), method: { name: 'mean-variance', riskAversion: 8 } }));
+    const singularN = largestN('optimize', (n) => ({ ...singularHistoryProbe(n), method: { name: 'mean-variance', riskAversion: 8 } }));
     const cold = buildCase(`history:${singularN}:half:mv8:short`);
     out.push({ name: `optimize: singular history N=${singularN}, T=${singularN / 2 + 1} (sample covariance of rank N/2), mean-variance λ 8 with shorts`, job: 'optimize', body: cold.body });
     const warm = buildCase('fewobs:200:5:mv0.5:sg50');

@@ -251,7 +251,7 @@ describe('work model against measured CPU', () => {
   });
 
   // Measured ms per singular solve (`npm run bench:singular`, 2026-12-02, cold: median of 1–3, warm:
-  // the slowest of 6–18), with the faster of the two dense-reference rates of that run (ns/unit;
+  // the slowest of 3–18), with the faster of the two dense-reference rates of that run (ns/unit;
   // 3.05 when the worst rate was fitted), so each is scaled to the fitted machine speed.
   const measuredSingular: [label: string, start: 'cold' | 'warm', ms: number, referenceNs: number][] = [
     ['moments:650:half:mv8:short', 'cold', 900, 6.98],
