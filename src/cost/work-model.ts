@@ -64,10 +64,11 @@ export const WARM_GROUP_EXPONENT = 2;
  * iterations, 2.39×; with 150 groups and shorts 22.7 s, 3958 iterations, 2.33×; 150 groups
  * long-only 14.4 s, 1.66×; N = 400 with 50 groups and shorts 0.8 s, 1.78×; and a bootstrap of
  * T = 480 rows for N = 400 with 50 groups and shorts 0.97× (see singularDraws). So a singular warm solve
- * pays the share times SINGULAR_WARM_GROUP_MULTIPLIER (capped at the whole term): those at
- * ≤ 0.7× the reference rate. The highest left is a riskless long-only portfolio (rank N − 1,
- * N = 550, 50 groups, mean-variance λ = 0.5: 1.2 s, 1229 iterations, 0.9×), where the dense
- * iterations, not the groups, dominate.
+ * pays the share times SINGULAR_WARM_GROUP_MULTIPLIER (capped at the whole term), and the dense
+ * singular term too (singularQpUnits: its iterations reach the cold solve's, up to 4.8·N). With
+ * both, every measured warm solve with groups is at ≤ 0.61× the reference rate (the highest:
+ * N = 550, 50 groups and shorts, 1.5 s, 2643 iterations; a riskless long-only portfolio, rank
+ * N − 1, N = 550, 50 groups: 1.2 s, 0.44×).
  */
 export const SINGULAR_WARM_GROUP_MULTIPLIER = 4;
 /**
@@ -109,9 +110,11 @@ export type SolveStart = 'cold' | 'warm';
  *   rank N/2, mean-variance λ 8 with shorts: 752 iterations, 0.9 s; a history of 326 rows the
  *   same); 1.8× for one first solve of a process at N = 400 (rank 1, mean-variance λ 0.5:
  *   0.35 s), 0.8× repeated (0.22 s). With the term: ≤ 0.5×.
- * - Warm solves need no such term: without groups the worst measured was 0.76× the price without
- *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms); with groups see
- *   SINGULAR_WARM_GROUP_MULTIPLIER.
+ * - Warm solves without groups need no such term: the worst measured was 0.76× the price without
+ *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms). With groups they pay it
+ *   too: their iterations reach 1.3–2× the cold solve's, up to 4.8·N (observations 6, N = 550,
+ *   50 groups and shorts, mean-variance λ = 0.5: 2643 iterations, 1.5 s at ~1.9 ns·N² each,
+ *   ~1.1× the reference rate without it), besides the group term (SINGULAR_WARM_GROUP_MULTIPLIER).
  * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, on every solve, was
  * fitted on the solver before that fix (N = 600, rank 2, 62 s) and priced these solves 55–500×
  * above their cost: a stress of a history of T = N/2 rows at 500 draws was accepted up to N = 70
@@ -125,9 +128,14 @@ export function singularSolve(s: RequestShape, start: SolveStart): boolean {
   return s.singular || (start === 'warm' && s.singularDraws);
 }
 
-/** The singular term of one cold dense active-set solve (0 for a definite covariance, and for warm solves). */
+/**
+ * The singular term of one dense active-set solve: every cold solve on a singular covariance, and
+ * a warm one when there are groups (its iterations then reach the cold solve's or more; without
+ * groups a warm solve needs none). 0 for a definite covariance.
+ */
 export function singularQpUnits(s: RequestShape, start: SolveStart = 'cold'): number {
-  return start === 'cold' && s.singular ? SINGULAR_QP_ITERATIONS_PER_VARIABLE * (s.n + s.groups) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * s.n * s.n : 0;
+  const charged = start === 'cold' ? s.singular : s.groups > 0 && singularSolve(s, start);
+  return charged ? SINGULAR_QP_ITERATIONS_PER_VARIABLE * (s.n + s.groups) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * s.n * s.n : 0;
 }
 
 export const usesMean = (spec: MethodSpec): boolean => spec.name === 'mean-variance' || spec.name === 'kelly';

@@ -149,7 +149,7 @@ describe('singular dense covariance', () => {
     expect(solveUnits(draws.methods[0], draws, 'cold')).toBe(solveUnits(draws.methods[0], { ...draws, singularDraws: false }, 'cold'));
   });
 
-  it('prices a warm singular solve with groups at SINGULAR_WARM_GROUP_MULTIPLIER times the definite share min(1, G/N)², capped at 1', () => {
+  it('prices a warm singular solve with groups at SINGULAR_WARM_GROUP_MULTIPLIER times the definite share min(1, G/N)², capped at 1, plus the dense singular term', () => {
     const few = caseShape('fewobs:400:5:mv0.5:sg50');
     const many = caseShape('fewobs:300:5:mv0.5:g150');
     // The undiscounted warm term: GROUP_UNITS_FACTOR (the cold solve pays COLD_GROUP_UNITS_FACTOR).
@@ -157,6 +157,9 @@ describe('singular dense covariance', () => {
     expect(groupUnits(few, 'warm') / full(few)).toBeCloseTo(SINGULAR_WARM_GROUP_MULTIPLIER * (50 / 400) ** 2, 12);
     expect(groupUnits({ ...few, singularDraws: false }, 'warm') / full(few)).toBeCloseTo((50 / 400) ** 2, 12);
     expect(groupUnits(many, 'warm') / full(many)).toBe(1);
+    // With groups a singular warm solve also pays the dense singular term (its iterations reach the cold solve's).
+    expect(singularQpUnits(few, 'warm')).toBe((400 + 50) * 400 ** 2);
+    expect(singularQpUnits({ ...few, singularDraws: false }, 'warm')).toBe(0);
   });
 
   it('accepts the singular requests the iteration-cap charge refused, within the work limit', () => {
@@ -265,6 +268,8 @@ describe('work model against measured CPU', () => {
     ['fewobs:300:5:mv0.5:sg150', 'warm', 22661, 8.61],
     ['fewobs:300:5:mv0.5:g100', 'warm', 3230, 7.69],
     ['fewobs:300:5:mv0.5:g150', 'warm', 14443, 7.69],
+    ['fewobs:550:5:mv0.5:sg50', 'warm', 1542, 6.96],
+    ['moments:550:n-1pos:mv2:g100', 'warm', 4274, 6.96],
   ];
   for (const [label, start, ms, referenceNs] of measuredSingular) {
     it(`charges a ${start} singular solve of ${label} at least its measured ${ms} ms at the worst rate`, () => {
