@@ -32,13 +32,29 @@ export interface RequestShape {
   /**
    * The dense covariance is (or may be) singular: a sample or EWMA estimate from no more rows than
    * assets, a repaired matrix (eigenvalues clipped at 0), or a supplied one that has no Cholesky
-   * factor (found by validation's PSD test). Active-set solves then run on a ridge and can take up
-   * to their iteration cap, which the work model charges.
+   * factor (found by validation's PSD test). Active-set solves then run partly on a ridge, which
+   * the work model charges (work-model.ts, singularQpUnits).
    */
   readonly singular: boolean;
+  /**
+   * Every draw's covariance is (or is likely) singular though the base one may not be: parametric
+   * draws of dense moments from no more observations than assets (Wishart with T − 1 < N degrees
+   * of freedom), and bootstrap draws of a sample or EWMA history whose resampled T rows hold about
+   * (1 − 1/e)·T distinct ones, no more than N. The per-draw (warm) solves are charged as singular;
+   * the base optima and optimize are not.
+   */
+  readonly singularDraws: boolean;
   /** Kelly maximises expected log growth over the history's scenarios (not the quadratic approximation). */
   readonly scenarioKelly: boolean;
 }
+
+/**
+ * Expected share of distinct rows in a bootstrap resample of T rows, 1 − (1 − 1/T)^T → 1 − 1/e ≈
+ * 0.632 (Efron & Tibshirani 1993, the ".632" of the .632 estimator; from memory). The same for the
+ * stationary bootstrap to first order: a row is missed by each of its ~T/L blocks of mean length L
+ * with probability ≈ 1 − L/T, so by all of them with ≈ 1/e.
+ */
+export const BOOTSTRAP_DISTINCT_SHARE = 1 - Math.exp(-1);
 
 /** Default draws when neither the proposal nor the caller sets them. */
 export const DEFAULT_DRAWS = 500;
@@ -90,5 +106,8 @@ export function requestShape(proposal: Proposal, methods: readonly MethodSpec[],
       knownSingular ||
       ('covariance' in inputs && (estimation?.repairCovariance ?? false)) ||
       (history && factorModel === 'none' && ['sample', 'ewma'].includes(estimation?.covariance ?? 'sample') && inputs.returns.length <= n),
+    singularDraws:
+      ('covariance' in inputs && scheme === 'parametric' && inputs.observations <= n) ||
+      (history && scheme !== 'parametric' && factorModel === 'none' && ['sample', 'ewma'].includes(estimation?.covariance ?? 'sample') && BOOTSTRAP_DISTINCT_SHARE * inputs.returns.length <= n),
   };
 }

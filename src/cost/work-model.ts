@@ -52,6 +52,26 @@ export const COLD_GROUP_UNITS_FACTOR = 750;
  */
 export const WARM_GROUP_EXPONENT = 2;
 /**
+ * With groups, a warm solve on a singular covariance (RequestShape.singular, or singularDraws:
+ * every draw singular) saves less than on a definite one: the per-draw solves took 1.3–2× the
+ * iterations of the cold solve (a singular draw's optimum sits on another flat face) and 4–6× the
+ * time of the same draws made definite (`npm run bench:singular`, 2026-12-02: parametric draws of
+ * N = 200 with 50 groups and shorts, 437 ms per solve against 73 ms with 999 observations; N = 100
+ * with 100 groups and shorts, 678 against 164 ms). Priced with the definite share min(1, G / N)²,
+ * the worst warm solves ran at 1.4–2.4× the reference rate (the faster of the N = 650 optimize's
+ * two readings in the same run), long-only or with shorts alike (observations 6, mean-variance
+ * λ = 0.5): N = 300 with 100 groups and shorts 6.3 s per solve, 2707
+ * iterations, 2.39×; with 150 groups and shorts 22.7 s, 3958 iterations, 2.33×; 150 groups
+ * long-only 14.4 s, 1.66×; N = 400 with 50 groups and shorts 0.8 s, 1.78×; and a bootstrap of
+ * T = 480 rows for N = 400 with 50 groups and shorts 0.97× (see singularDraws). So a singular warm solve
+ * pays the share times SINGULAR_WARM_GROUP_MULTIPLIER (capped at the whole term), and the dense
+ * singular term too (singularQpUnits: its iterations reach the cold solve's, up to 4.8·N). With
+ * both, every measured warm solve with groups is at ≤ 0.61× the reference rate (the highest:
+ * N = 550, 50 groups and shorts, 1.5 s, 2643 iterations; a riskless long-only portfolio, rank
+ * N − 1, N = 550, 50 groups: 1.2 s, 0.44×).
+ */
+export const SINGULAR_WARM_GROUP_MULTIPLIER = 4;
+/**
  * Fixed cost of any solve, whatever its size: the result object, KKT residual, diagnostics and
  * warnings (measured: 0.1–0.5 ms per solve at N ≤ 30, where the flop counts are a few thousand;
  * charged at 2e5 so the demo stays near 2 ns per unit).
@@ -71,11 +91,52 @@ export const KELLY_WARM_NEWTON_STEPS = 3;
 export type SolveStart = 'cold' | 'warm';
 
 /**
- * A dense active-set solve on a singular covariance runs on a ridge and may use its whole
- * iteration budget, max(200, 10·(N + G)) iterations of ~8·N² each (measured: N = 600, rank 2,
- * 6000 iterations in ~1.5e10 units' time).
+ * A cold dense active-set solve on a singular covariance (RequestShape.singular) runs part of its
+ * way on a ridge (qp-hessian.ts, level 2): about as many iterations as on a definite Σ, but each
+ * dearer (factor updates and refactorisations of a near-singular H_FF: 2.3–3.3 ns·N² an
+ * iteration at N = 550–650 against 0.4 on a definite Σ). Charged on top of the dense QP's
+ * N³/3 + 20N²: SINGULAR_QP_ITERATIONS_PER_VARIABLE · (N + G) iterations of
+ * SINGULAR_QP_UNITS_PER_ITERATION_N2 · N² units each, i.e. (N + G)·N².
+ *
+ * Fitted 2026-12-02 (`npm run bench:singular`, CPU time per solve, after the flat-face fix in
+ * qp-active-set.ts) on ranks 1, 2, 5, N/2, N − 1 (with and without a riskless long-only
+ * portfolio), N = 50–650, minimum-variance and mean-variance (λ 0.1–50), long-only, capped, with
+ * shorts, with 10–150 overlapping groups; sample covariances of T ≤ N rows, supplied and
+ * repaired ones, and parametric draws from observations ≤ N. The dense reference (the N = 650
+ * all-methods optimize) ran at 7.0–13.8 ns/unit in the same runs.
+ * - Iterations: at most 1.3·(N + G) cold without groups, up to 2.35·(N + G) with 50 groups
+ *   (rank N − 1, minimum-variance, N = 550: 1295) and 13.7·N with 150 (charged by the group term).
+ * - Worst cold solves against the price without this term, at the reference rate: 1.2× (N = 650,
+ *   rank N/2, mean-variance λ 8 with shorts: 752 iterations, 0.9 s; a history of 326 rows the
+ *   same); 1.8× for one first solve of a process at N = 400 (rank 1, mean-variance λ 0.5:
+ *   0.35 s), 0.8× repeated (0.22 s). With the term: ≤ 0.5×.
+ * - Warm solves without groups need no such term: the worst measured was 0.76× the price without
+ *   it (parametric draws of rank 200, N = 400, minimum-variance: 137 ms). With groups they pay it
+ *   too: their iterations reach 1.3–2× the cold solve's, up to 4.8·N (observations 6, N = 550,
+ *   50 groups and shorts, mean-variance λ = 0.5: 2643 iterations, 1.5 s at ~1.9 ns·N² each,
+ *   ~1.1× the reference rate without it), besides the group term (SINGULAR_WARM_GROUP_MULTIPLIER).
+ * The previous charge, the iteration cap max(200, 10·(N + G)) at 8·N² each, on every solve, was
+ * fitted on the solver before that fix (N = 600, rank 2, 62 s) and priced these solves 55–500×
+ * above their cost: a stress of a history of T = N/2 rows at 500 draws was accepted up to N = 70
+ * (minimum-variance) by work, now 340; a singular optimize up to N = 550, now to the memory limit.
  */
-export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 8;
+export const SINGULAR_QP_ITERATIONS_PER_VARIABLE = 2;
+export const SINGULAR_QP_UNITS_PER_ITERATION_N2 = 0.5;
+
+/** Whether this solve's covariance is (or may be) singular: the base one, or every draw's (warm solves only). */
+export function singularSolve(s: RequestShape, start: SolveStart): boolean {
+  return s.singular || (start === 'warm' && s.singularDraws);
+}
+
+/**
+ * The singular term of one dense active-set solve: every cold solve on a singular covariance, and
+ * a warm one when there are groups (its iterations then reach the cold solve's or more; without
+ * groups a warm solve needs none). 0 for a definite covariance.
+ */
+export function singularQpUnits(s: RequestShape, start: SolveStart = 'cold'): number {
+  const charged = start === 'cold' ? s.singular : s.groups > 0 && singularSolve(s, start);
+  return charged ? SINGULAR_QP_ITERATIONS_PER_VARIABLE * (s.n + s.groups) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * s.n * s.n : 0;
+}
 
 export const usesMean = (spec: MethodSpec): boolean => spec.name === 'mean-variance' || spec.name === 'kelly';
 
@@ -117,7 +178,10 @@ export function estimationUnits(s: RequestShape): number {
 export function groupUnits(s: RequestShape, start: SolveStart = 'cold'): number {
   if (s.groups === 0) return 0;
   const rows = (s.n + s.groups) * (s.groupMemberships + Math.min(s.groups, s.n) * s.n);
-  return start === 'cold' ? COLD_GROUP_UNITS_FACTOR * rows : GROUP_UNITS_FACTOR * rows * Math.min(1, s.groups / s.n) ** WARM_GROUP_EXPONENT;
+  if (start === 'cold') return COLD_GROUP_UNITS_FACTOR * rows;
+  const ratio = s.groups / s.n;
+  const share = Math.min(1, (singularSolve(s, start) ? SINGULAR_WARM_GROUP_MULTIPLIER : 1) * Math.min(1, ratio) ** WARM_GROUP_EXPONENT);
+  return GROUP_UNITS_FACTOR * rows * share;
 }
 
 /** One solve of a method on dense or factor inputs, cold (a base optimum) or warm-started (a draw). */
@@ -130,8 +194,7 @@ function solveWorkUnits(spec: MethodSpec, s: RequestShape, start: SolveStart): n
   const dense = s.inputKind !== 'factor-moments' && !(s.inputKind === 'history' && s.factorModel !== 'none');
   // Factor QPs: Woodbury updates cost O(N·K²) per active-set change, and warm starts still make a
   // few dozen changes at large N (measured: ~3× the dense rate per counted operation at N = 2000, K = 8).
-  const singularIterations = s.singular ? Math.max(200, 10 * (n + s.groups)) * SINGULAR_QP_UNITS_PER_ITERATION_N2 * n * n : 0;
-  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularIterations : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s, start);
+  const qp = (dense ? cube(n) / 3 + 20 * n * n + singularQpUnits(s, start) : 60 * n * Math.max(k, 1) ** 2) + groupUnits(s, start);
   switch (spec.name) {
     case 'mean-variance':
     case 'minimum-variance':

@@ -72,6 +72,7 @@ function workShapeOf(problem: PreparedProblem, scenarioCount: number): RequestSh
     draws: 1,
     scheme: 'parametric',
     singular: false,
+    singularDraws: false,
     scenarioKelly: scenarioCount > 0,
   };
 }

@@ -10,6 +10,7 @@ import type { Proposal, ProposalInput } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
 import { methodList } from '../../src/stress/problem.js';
 import { targetStressProposal } from './problems.js';
+import { buildCase } from './singular-cases.js';
 
 /** Park–Miller uniforms (as test/bench/problems.ts), so every run builds the same data. */
 function uniforms(seed: number): () => number {
@@ -100,6 +101,13 @@ function denseProbe(n: number, extra: Partial<ProposalInput> = {}): ProposalInpu
   return { assets: a, weights: a.map(() => 1 / n), inputs: { mean: a.map(() => 0.005), covariance: a.map(() => row), observations: 60, periodsPerYear: 12 }, method: { name: 'mean-variance', riskAversion: 4 }, ...extra };
 }
 
+/** A history of N/2 + 1 rows with shorts allowed (priced from its lengths alone, see `fits`). */
+function singularHistoryProbe(n: number): ProposalInput {
+  const a = ids(n);
+  const row = new Array<number>(n).fill(0);
+  return { assets: a, weights: a.map(() => 1 / n), inputs: { returns: Array.from({ length: n / 2 + 1 }, () => row), periodsPerYear: 12 }, method: { name: 'minimum-variance' }, compare: [], constraints: { longOnly: false, lower: -0.1, upper: 0.2 } };
+}
+
 function withDraws(job: Job, name: string, body: ProposalInput, baseline?: ProposalInput, fraction = 1): LimitShape {
   const draws = Math.max(1, Math.floor(fraction * maxDraws(job, body, baseline)));
   const set = (p: ProposalInput): ProposalInput => ({ ...p, resampling: { ...p.resampling, draws, seed: 'limits' } });
@@ -127,9 +135,9 @@ function feasibleGroups(assets: string[], g: number, share: number, u: () => num
  * The shapes. `fraction` scales the draws of the stress shapes (1 = the largest accepted); the
  * optimize shapes are at the largest accepted size already.
  */
-export type ShapeKind = 'optimize' | 'repair' | 'groups' | 'warm-groups' | 'parametric' | 'history' | 'kelly' | 'factor' | 'check';
+export type ShapeKind = 'optimize' | 'repair' | 'singular' | 'groups' | 'warm-groups' | 'parametric' | 'history' | 'kelly' | 'factor' | 'check';
 
-export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimize', 'repair', 'groups', 'warm-groups', 'parametric', 'history', 'kelly', 'factor', 'check']): LimitShape[] {
+export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimize', 'repair', 'singular', 'groups', 'warm-groups', 'parametric', 'history', 'kelly', 'factor', 'check']): LimitShape[] {
   const u = uniforms(20261202);
   const out: LimitShape[] = [];
   const want = (k: ShapeKind): boolean => kinds.includes(k);
@@ -151,6 +159,20 @@ export function limitShapes(fraction = 1, kinds: readonly ShapeKind[] = ['optimi
     job: 'optimize',
     body: { assets: ra, weights: ra.map(() => 1 / repairN), inputs: { mean: ra.map(() => 0.005), covariance: covariance(repairN, u, true), observations: 60, periodsPerYear: 12 }, method: { name: 'minimum-variance' }, compare: [], estimation: { repairCovariance: true } },
   });
+
+  // The worst singular shapes of `npm run bench:singular` (src/cost/work-model.ts, singularQpUnits):
+  // the slowest cold solve (rank N/2, mean-variance with shorts) at the largest N accepted; the
+  // slowest warm solves (parametric draws from 6 observations, shorts and 50 groups); and the
+  // common case, a history of fewer rows than assets, with many draws.
+  if (want('singular')) {
+    const singularN = largestN('optimize', (n) => ({ ...singularHistoryProbe(n), method: { name: 'mean-variance', riskAversion: 8 } }));
+    const cold = buildCase(`history:${singularN}:half:mv8:short`);
+    out.push({ name: `optimize: singular history N=${singularN}, T=${singularN / 2 + 1} (sample covariance of rank N/2), mean-variance λ 8 with shorts`, job: 'optimize', body: cold.body });
+    const warm = buildCase('fewobs:200:5:mv0.5:sg50');
+    out.push(withDraws('stress', 'stress: moments N=200, observations 6 (every Wishart draw singular), mean-variance λ 0.5, shorts, 50 overlapping groups', warm.body, undefined, fraction));
+    const common = buildCase('history:400:199:mv4:long');
+    out.push(withDraws('stress', 'stress: history N=400, T=200 (singular sample covariance), mean-variance + minimum-variance', { ...common.body, compare: [{ name: 'minimum-variance' }] }, undefined, fraction));
+  }
 
   const n300 = ids(300);
   if (want('groups')) out.push({

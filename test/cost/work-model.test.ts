@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { effectiveMaxWork, priceRequest } from '../../src/cost/check.js';
 import { memoryBreakdown, requestMemory } from '../../src/cost/memory-model.js';
 import { requestShape } from '../../src/cost/request-shape.js';
-import { COLD_GROUP_UNITS_FACTOR, GROUP_UNITS_FACTOR, groupUnits, optimizeBreakdown, requestWork, solveUnits, stressBreakdown, usesMean } from '../../src/cost/work-model.js';
+import { COLD_GROUP_UNITS_FACTOR, GROUP_UNITS_FACTOR, groupUnits, optimizeBreakdown, requestWork, SINGULAR_WARM_GROUP_MULTIPLIER, singularQpUnits, solveUnits, stressBreakdown, usesMean } from '../../src/cost/work-model.js';
 import { LIMITS } from '../../src/schema/limits.js';
 import { ProposalSchema, type ProposalInput } from '../../src/schema/proposal.js';
 import { validateProposal } from '../../src/schema/validate.js';
@@ -10,6 +10,7 @@ import { methodList } from '../../src/stress/problem.js';
 import { optimizeProposal, stressProposal } from '../../src/stress/run.js';
 import { historyProposal, momentsProposal } from '../helpers/proposals.js';
 import { calibrationShapes } from '../bench/limit-shapes.js';
+import { buildCase } from '../bench/singular-cases.js';
 import { targetStressProposal } from '../bench/problems.js';
 
 const shapeOf = (body: ProposalInput, draws?: number) => {
@@ -113,6 +114,62 @@ describe('limits are checked before the costly steps', () => {
   });
 });
 
+describe('singular dense covariance', () => {
+  const caseShape = (label: string, draws?: number) => {
+    const c = buildCase(label);
+    const p = ProposalSchema.parse(c.body);
+    return requestShape(p, methodList(p), draws, c.singular);
+  };
+
+  it('charges a cold singular solve (N + G)·N² on top of the dense QP, and a warm one nothing more without groups', () => {
+    const s = caseShape('history:400:199:mv4:long');
+    expect(s.singular).toBe(true);
+    const definite = { ...s, singular: false };
+    const m = s.methods[0];
+    expect(solveUnits(m, s, 'cold') - solveUnits(m, definite, 'cold')).toBe(400 ** 3);
+    expect(singularQpUnits(s, 'cold')).toBe(400 ** 3);
+    expect(solveUnits(m, s, 'warm')).toBe(solveUnits(m, definite, 'warm'));
+    // The iteration cap at 8·N² an iteration, charged before the solver's flat-face fix: 80× more.
+    expect(Math.max(200, 10 * 400) * 8 * 400 ** 2).toBeGreaterThan(50 * singularQpUnits(s, 'cold'));
+  });
+
+  it('flags what may be singular: histories of T ≤ N rows, repaired and supplied singular Σ; per draw only: parametric draws from observations ≤ N, bootstrap draws of T ≤ N/0.632 rows', () => {
+    expect(caseShape('history:100:99:minvar:long').singular).toBe(true);
+    expect(caseShape('history:100:100:minvar:long').singular).toBe(false);
+    expect(caseShape('repair:100:5:minvar:long').singular).toBe(true);
+    // A supplied Σ is singular when validation's PSD test finds no Cholesky factor (requestShape's knownSingular).
+    expect(caseShape('moments:100:5:minvar:long').singular).toBe(true);
+    const draws = caseShape('fewobs:100:99:minvar:long');
+    expect([draws.singular, draws.singularDraws]).toEqual([false, true]);
+    expect(caseShape('fewobs:100:100:minvar:long').singularDraws).toBe(false);
+    // A bootstrap of T rows holds ~0.632·T distinct ones: 120 rows for 100 assets resample singular, 200 do not.
+    expect(caseShape('history:100:119:minvar:long').singularDraws).toBe(true);
+    expect(caseShape('history:100:199:minvar:long').singularDraws).toBe(false);
+    // Optimize has no draws: the base solve of such moments is priced as definite.
+    expect(solveUnits(draws.methods[0], draws, 'cold')).toBe(solveUnits(draws.methods[0], { ...draws, singularDraws: false }, 'cold'));
+  });
+
+  it('prices a warm singular solve with groups at SINGULAR_WARM_GROUP_MULTIPLIER times the definite share min(1, G/N)², capped at 1, plus the dense singular term', () => {
+    const few = caseShape('fewobs:400:5:mv0.5:sg50');
+    const many = caseShape('fewobs:300:5:mv0.5:g150');
+    // The undiscounted warm term: GROUP_UNITS_FACTOR (the cold solve pays COLD_GROUP_UNITS_FACTOR).
+    const full = (s: typeof few): number => (groupUnits(s, 'cold') * GROUP_UNITS_FACTOR) / COLD_GROUP_UNITS_FACTOR;
+    expect(groupUnits(few, 'warm') / full(few)).toBeCloseTo(SINGULAR_WARM_GROUP_MULTIPLIER * (50 / 400) ** 2, 12);
+    expect(groupUnits({ ...few, singularDraws: false }, 'warm') / full(few)).toBeCloseTo((50 / 400) ** 2, 12);
+    expect(groupUnits(many, 'warm') / full(many)).toBe(1);
+    // With groups a singular warm solve also pays the dense singular term (its iterations reach the cold solve's).
+    expect(singularQpUnits(few, 'warm')).toBe((400 + 50) * 400 ** 2);
+    expect(singularQpUnits({ ...few, singularDraws: false }, 'warm')).toBe(0);
+  });
+
+  it('accepts the singular requests the iteration-cap charge refused, within the work limit', () => {
+    // Priced before: 2.6e10 (repair, N = 650), 5.9e10 (history N = 900), 3.1e12 (history N = 400, 148 draws).
+    expect(priceRequest('optimize', caseShape('repair:650:5:minvar:long')).over).toBeUndefined();
+    expect(priceRequest('optimize', caseShape('history:900:450:mv8:short')).over).toBeUndefined();
+    expect(priceRequest('stress', caseShape('history:400:199:mv4:long', 100)).over).toBeUndefined();
+  });
+});
+
 /**
  * Measured CPU (`npm run bench:work-model`, `npm run bench:limits`; DEVELOPERS.md, "Request cost"):
  * the model must charge every measured shape at least its CPU at the worst rate the limit is
@@ -149,9 +206,12 @@ describe('work model against measured CPU', () => {
     const many = shapeNamed('dense N=100, parametric (60 obs.), mean-variance + minimum-variance, 200 ');
     // Shares are of the group term at GROUP_UNITS_FACTOR (the cold solve now pays COLD_GROUP_UNITS_FACTOR).
     const base = (s: typeof few): number => (groupUnits(s, 'cold') * GROUP_UNITS_FACTOR) / COLD_GROUP_UNITS_FACTOR;
-    // 50 groups on 300 assets: the working set barely moves (2.2 % of the term measured).
-    expect(groupUnits(few, 'warm') / base(few)).toBeGreaterThan(0.022);
-    expect(groupUnits(few, 'warm') / base(few)).toBeLessThan(0.1);
+    // 50 groups on 300 assets: the working set barely moves (2.2 % of the term measured). Its draws
+    // (60 observations) are singular, which is priced apart (see 'singular dense covariance').
+    const definite = { ...few, singularDraws: false };
+    expect(few.singularDraws).toBe(true);
+    expect(groupUnits(definite, 'warm') / base(definite)).toBeGreaterThan(0.022);
+    expect(groupUnits(definite, 'warm') / base(definite)).toBeLessThan(0.1);
     // More groups than assets: a warm solve took as long as a cold one did when measured (534 iterations), priced so.
     expect(groupUnits(many, 'warm')).toBeCloseTo(base(many), 6);
     expect(groupUnits(many, 'warm')).toBeLessThan(groupUnits(many, 'cold'));
@@ -192,6 +252,33 @@ describe('work model against measured CPU', () => {
     expect(optimizeBreakdown(s).total * WORST_NS_PER_UNIT * 1e-6).toBeGreaterThanOrEqual((436_328 * 3.05) / 8.97);
     expect(optimizeBreakdown(s).total).toBeGreaterThan(LIMITS.maxWorkUnits);
   });
+
+  // Measured ms per singular solve (`npm run bench:singular`, 2026-12-02, cold: median of 1–3, warm:
+  // the slowest of 3–18), with the faster of the two dense-reference rates of that run (ns/unit;
+  // 3.05 when the worst rate was fitted), so each is scaled to the fitted machine speed.
+  const measuredSingular: [label: string, start: 'cold' | 'warm', ms: number, referenceNs: number][] = [
+    ['moments:650:half:mv8:short', 'cold', 900, 6.98],
+    ['history:650:half:mv0.5:short', 'cold', 862, 6.98],
+    ['moments:400:1:mv0.5:long', 'cold', 353, 7.84],
+    ['repair:550:n-1:minvar:g50', 'cold', 2069, 7.44],
+    ['moments:550:n-1pos:mv0.5:g50', 'warm', 1198, 7.44],
+    ['fewobs:400:half:minvar:long', 'warm', 137, 7.27],
+    ['fewobs:400:5:mv0.5:sg50', 'warm', 825, 8.28],
+    ['fewobs:300:5:mv0.5:sg100', 'warm', 6290, 8.61],
+    ['fewobs:300:5:mv0.5:sg150', 'warm', 22661, 8.61],
+    ['fewobs:300:5:mv0.5:g100', 'warm', 3230, 7.69],
+    ['fewobs:300:5:mv0.5:g150', 'warm', 14443, 7.69],
+    ['fewobs:550:5:mv0.5:sg50', 'warm', 1542, 6.96],
+    ['moments:550:n-1pos:mv2:g100', 'warm', 4274, 6.96],
+  ];
+  for (const [label, start, ms, referenceNs] of measuredSingular) {
+    it(`charges a ${start} singular solve of ${label} at least its measured ${ms} ms at the worst rate`, () => {
+      const c = buildCase(label);
+      const p = ProposalSchema.parse(c.body);
+      const s = requestShape(p, methodList(p), 1, c.singular);
+      expect(solveUnits(s.methods[0], s, start) * WORST_NS_PER_UNIT * 1e-6).toBeGreaterThanOrEqual((ms * 3.05) / referenceNs);
+    });
+  }
 
   it('charges whole ordinary requests at least their measured CPU at the worst rate', () => {
     // 200 draws measured: 30 assets 1 group 1147 + 131 ms; demo 936 + 95 ms.

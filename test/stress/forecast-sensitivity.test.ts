@@ -170,6 +170,7 @@ describe('the work of the table', () => {
       draws: 1,
       scheme: 'parametric',
       singular: false,
+      singularDraws: false,
       scenarioKelly: false,
     };
     const expected = forecastSensitivityOps([plan.problem.methods[0]], shape) + forecastSensitivityOps([plan.problem.methods[2]], shape);
