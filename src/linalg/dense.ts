@@ -84,8 +84,12 @@ export function choleskyOrThrow(a: Float64Array, n: number, minPivotRelative = 0
  * means the matrix is not PSD and throws a RangeError. Column-oriented form of the same
  * recurrence as choleskyDecompose (Golub & Van Loan §4.2); same sums in the same order, so on an
  * SPD matrix both give the same factor.
+ * `acceptedNegative`: pivots down to −acceptedNegative also get a zero column instead of throwing,
+ * for a matrix already judged PSD to a looser tolerance (validation accepts λ_min ≥ −δ, and such a
+ * matrix's pivots can fall to about −δ, far below the round-off floor); its factor is that of the
+ * matrix with those directions clipped at 0, as the repair does.
  */
-export function choleskyPsd(a: Float64Array, n: number, out: Float64Array = new Float64Array(n * n)): Float64Array {
+export function choleskyPsd(a: Float64Array, n: number, out: Float64Array = new Float64Array(n * n), acceptedNegative = 0): Float64Array {
   if (a.length < n * n || out.length < n * n) throw new RangeError(`choleskyPsd: buffers must hold ${n * n} values`);
   let maxDiagonal = 0;
   for (let i = 0; i < n; i++) maxDiagonal = Math.max(maxDiagonal, Math.abs(a[i * n + i]));
@@ -96,7 +100,7 @@ export function choleskyPsd(a: Float64Array, n: number, out: Float64Array = new 
     const rowJ = j * n;
     let pivot = a[rowJ + j];
     for (let k = 0; k < j; k++) pivot -= out[rowJ + k] * out[rowJ + k];
-    if (pivot < -tolerance || Number.isNaN(pivot)) {
+    if (pivot < -Math.max(tolerance, acceptedNegative) || Number.isNaN(pivot)) {
       throw new RangeError(`matrix is not positive semi-definite (pivot ${pivot} at index ${j})`);
     }
     if (pivot <= tolerance) {

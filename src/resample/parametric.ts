@@ -1,4 +1,5 @@
 import { choleskyPsd } from '../linalg/dense.js';
+import { TOLERANCES } from '../schema/limits.js';
 import type { DenseRiskModel, FactorRiskModel, RiskModel } from '../linalg/risk-model.js';
 import { drawCorrelatedNormal, drawFactorNormal, drawIndependentNormal } from './normal.js';
 import { createDrawStream, STREAM_PURPOSE, type RandomStream, type Seed } from './streams.js';
@@ -55,6 +56,18 @@ export interface ParametricBaseInput {
   readonly meanStdErr?: Float64Array;
 }
 
+/**
+ * The negative pivots a validated matrix may show: validation accepts a covariance whose smallest
+ * eigenvalue is ≥ −TOLERANCES.psd·max(1, λ₁) (matrix-checks.ts), and the trace bounds λ₁ from
+ * above, so this never rejects what validation accepted. Without it a supplied singular Σ that
+ * validation and optimize accept failed the stress with a 422 (pivot −8e-12 at N = 150).
+ */
+function validatedNegativeTolerance(a: Float64Array, n: number): number {
+  let trace = 0;
+  for (let i = 0; i < n; i++) trace += a[i * n + i];
+  return TOLERANCES.psd * Math.max(1, trace);
+}
+
 /** Factor the base covariance once per request. Throws RangeError for T < 2 or a non-PSD Σ / F. */
 export function prepareParametricBase(input: ParametricBaseInput): ParametricBase {
   const { mean, risk, observations } = input;
@@ -67,7 +80,7 @@ export function prepareParametricBase(input: ParametricBaseInput): ParametricBas
     throw new RangeError(`meanStdErr has ${meanStdErr.length} entries, expected ${risk.n}`);
   }
   if (risk.kind === 'dense') {
-    return { kind: 'dense', n: risk.n, observations, mean, meanStdErr, risk, covLower: choleskyPsd(risk.cov, risk.n) };
+    return { kind: 'dense', n: risk.n, observations, mean, meanStdErr, risk, covLower: choleskyPsd(risk.cov, risk.n, undefined, validatedNegativeTolerance(risk.cov, risk.n)) };
   }
   return {
     kind: 'factor',
@@ -77,7 +90,7 @@ export function prepareParametricBase(input: ParametricBaseInput): ParametricBas
     mean,
     meanStdErr,
     risk,
-    factorCovLower: choleskyPsd(risk.factorCov, risk.k),
+    factorCovLower: choleskyPsd(risk.factorCov, risk.k, undefined, validatedNegativeTolerance(risk.factorCov, risk.k)),
   };
 }
 

@@ -9,6 +9,8 @@ import {
   prepareParametricBase,
 } from '../../src/resample/parametric.js';
 import { createDrawStream } from '../../src/resample/streams.js';
+import { choleskyPsd } from '../../src/linalg/dense.js';
+import { checkPsd } from '../../src/schema/matrix-checks.js';
 import { ex3Means, ex3Model, ex4fModel } from '../helpers/reference-data.js';
 
 // Common random numbers for the stress channels (joint, mean-only, covariance-only): the mean
@@ -120,5 +122,42 @@ describe('prepareParametricBase and draws: shapes and guards', () => {
     const base = prepareParametricBase({ mean: MU, risk: dense, observations: 10, meanStdErr: new Float64Array(3) });
     const out = drawParametricMean(createDrawStream('v', 0, 'mean'), base, new Float64Array(3), createParametricScratch(base));
     expect(Array.from(out)).toEqual(Array.from(MU));
+  });
+});
+
+describe('prepareParametricBase on a covariance that validation accepts as PSD', () => {
+  it('factors a singular Σ with tiny negative eigenvalues (within validation’s tolerance) instead of refusing it', () => {
+    // Σ = B Bᵀ − 1e-12·I, B 12×3 (rank 3): nine eigenvalues of −1e-12, which validation accepts
+    // (λ_min ≥ −1e-10·max(1, λ₁), matrix-checks.ts) but which are far below Cholesky's round-off
+    // floor 64·n·ε·max Σ_ii (≈ 2e-13 here), so the former factorisation threw.
+    const n = 12;
+    const b = Float64Array.from({ length: n * 3 }, (_, k) => 0.1 * Math.sin(1.7 * k + 0.3));
+    const cov = new Float64Array(n * n);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) {
+        let s = 0;
+        for (let f = 0; f < 3; f++) s += b[i * 3 + f] * b[j * 3 + f];
+        cov[i * n + j] = s - (i === j ? 1e-12 : 0);
+      }
+    }
+    const rows = Array.from({ length: n }, (_, i) => Array.from(cov.subarray(i * n, (i + 1) * n)));
+    expect(checkPsd(rows).psd).toBe(true);
+    expect(() => choleskyPsd(cov, n)).toThrow(/not positive semi-definite/);
+    const base = prepareParametricBase({ mean: new Float64Array(n), risk: { kind: 'dense', n, cov }, observations: 6 });
+    if (base.kind !== 'dense') throw new Error('dense expected');
+    // L Lᵀ reproduces Σ to within the clipped 1e-12 directions.
+    let worst = 0;
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) {
+        let s = 0;
+        for (let k = 0; k < n; k++) s += base.covLower[i * n + k] * base.covLower[j * n + k];
+        worst = Math.max(worst, Math.abs(s - cov[i * n + j]));
+      }
+    }
+    expect(worst).toBeLessThan(1e-11);
+    // A clearly indefinite matrix is still refused.
+    const bad = Float64Array.from(cov);
+    bad[0] -= 1e-3;
+    expect(() => prepareParametricBase({ mean: new Float64Array(n), risk: { kind: 'dense', n, cov: bad }, observations: 6 })).toThrow(RangeError);
   });
 });
