@@ -7,6 +7,9 @@ import { priceRequest, type CostOptions } from '../cost/check.js';
 import { DEFAULT_DRAWS, requestShape, type Job } from '../cost/request-shape.js';
 import { methodList } from '../stress/problem.js';
 
+
+/** Warning code of a supplied covariance that is PSD but singular (validation's PSD test); the engine prices such requests as singular. */
+export const SINGULAR_COVARIANCE_WARNING = 'singular-covariance';
 export interface Warning {
   readonly code: string;
   readonly message: string;
@@ -166,7 +169,17 @@ function checkInputs(p: Proposal, out: Problem[], warnings: Warning[], costly: (
     costly.push(() => {
       const psd = checkPsd(covariance);
       if (!psd.positiveDefinite) singular.found = true;
-      if (psd.psd) return;
+      if (psd.psd) {
+        if (!psd.positiveDefinite) {
+          warnings.push({
+            code: SINGULAR_COVARIANCE_WARNING,
+            message:
+              'The covariance is singular (positive semi-definite, not definite): some combinations of the assets have no risk in it. ' +
+              'Minimum variance and mean-variance then solve on a ridge and each solve costs more; risk parity may have no solution.',
+          });
+        }
+        return;
+      }
       const smallest = psd.smallestEigenvalue === undefined ? `below −${psd.threshold.toExponential(3)}` : `${psd.smallestEigenvalue.toExponential(6)}`;
       if (estimation?.repairCovariance) {
         warnings.push({

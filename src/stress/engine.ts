@@ -18,7 +18,7 @@ import {
 import { createDrawStream, STREAM_PURPOSE, type Seed } from '../resample/streams.js';
 import { LIMITS } from '../schema/limits.js';
 import type { Proposal } from '../schema/proposal.js';
-import type { Warning } from '../schema/validate.js';
+import { SINGULAR_COVARIANCE_WARNING, type Warning } from '../schema/validate.js';
 import { ChannelVarianceAccumulator } from '../statistics/channel-variance.js';
 import { estimateFromHistory } from './estimate-inputs.js';
 import type { MethodSolver, SolveInputs } from './method-interface.js';
@@ -126,14 +126,25 @@ export interface StressAccumulators {
 /** Limits a deployment may lower (maxWork) and the CPU allowances a sharded request spreads over (workShares). */
 export type WorkLimits = CostOptions;
 
-export function checkLimits(job: Job, proposal: Proposal, draws: number, options: CostOptions & { baseline?: Proposal } = {}): number {
+export function checkLimits(
+  job: Job,
+  proposal: Proposal,
+  draws: number,
+  options: CostOptions & { baseline?: Proposal; warnings?: readonly Warning[]; baselineWarnings?: readonly Warning[] } = {},
+): number {
   if (!Number.isInteger(draws) || draws < 1) throw new LimitError('draws', draws, `draws must be a positive integer, got ${draws}`);
   if (draws > LIMITS.maxDraws) throw new LimitError('maxDraws', LIMITS.maxDraws, `draws ${draws} is over the limit of ${LIMITS.maxDraws} (maxDraws)`);
-  const shape = requestShape(proposal, methodList(proposal), draws);
-  const baseline = options.baseline ? requestShape(options.baseline, methodList(options.baseline), draws) : undefined;
+  // Validation's PSD test found the supplied covariance singular (its warning): priced as such
+  // here too, as validation priced it (request-shape.ts cannot tell without that test).
+  const shape = requestShape(proposal, methodList(proposal), draws, knownSingular(options.warnings));
+  const baseline = options.baseline ? requestShape(options.baseline, methodList(options.baseline), draws, knownSingular(options.baselineWarnings)) : undefined;
   const verdict = priceRequest(job, shape, { maxWork: options.maxWork, workShares: options.workShares, baseline });
   if (verdict.over) throw new LimitError(verdict.over.limit, verdict.over.value, verdict.over.message);
   return verdict.work;
+}
+
+function knownSingular(warnings: readonly Warning[] | undefined): boolean {
+  return warnings?.some((w) => w.code === SINGULAR_COVARIANCE_WARNING) ?? false;
 }
 
 /**
@@ -151,7 +162,7 @@ export function planStress(
   const seed = overrides.seed ?? proposal.resampling?.seed ?? 'wobble';
   const isHistory = 'returns' in proposal.inputs;
   const scheme: Scheme = proposal.resampling?.scheme ?? (isHistory ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork, workShares: overrides.workShares });
+  const workUnits = checkLimits('stress', proposal, draws, { maxWork: overrides.maxWork, workShares: overrides.workShares, warnings });
 
   const prepared = prepareProblem(proposal, warnings);
   const history = prepared.history;

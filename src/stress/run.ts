@@ -64,7 +64,7 @@ export async function optimizeProposal(
   const clock = options.clock ?? (() => 0);
   const started = clock();
   const scheme = proposal.resampling?.scheme ?? ('returns' in proposal.inputs ? 'stationary-bootstrap' : 'parametric');
-  const workUnits = checkLimits('optimize', proposal, 1, { maxWork: options.maxWork });
+  const workUnits = checkLimits('optimize', proposal, 1, { maxWork: options.maxWork, warnings });
   const prepared = prepareProblem(proposal, warnings);
   const scenarioKelly = prepared.history !== undefined && scheme !== 'parametric';
   const solved = solveBaseOptima(prepared, scenarioKelly);
@@ -148,7 +148,11 @@ export async function checkProposal(proposal: Proposal, warnings: Warning[], pol
   // Both runs are priced together before either starts: a check against a baseline proposal does
   // the work (and holds the memory) of two stress runs.
   const draws = options.draws ?? proposal.resampling?.draws ?? DEFAULT_DRAWS;
-  checkLimits('check', proposal, draws, { maxWork: options.maxWork, baseline: baseline?.kind === 'proposal' ? baseline.proposal : undefined });
+  checkLimits('check', proposal, draws, {
+    maxWork: options.maxWork,
+    warnings,
+    ...(baseline?.kind === 'proposal' ? { baseline: baseline.proposal, baselineWarnings: baseline.warnings } : {}),
+  });
   const candidate = await stressRun(proposal, warnings, options);
   if (!baseline || baseline.kind === 'report') {
     return assertFiniteReport({ ...candidate.report, verdict: judge(candidate.report, policy, baseline?.report, undefined, { candidate: figureBoundsOf(candidate.run) }) });

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { ReportSchema } from '../../src/schema/report.js';
 import { validateProposal } from '../../src/schema/validate.js';
 import { optimizeProposal, stressProposal } from '../../src/stress/run.js';
+import { checkLimits } from '../../src/stress/engine.js';
 import type { ProposalInput } from '../../src/schema/proposal.js';
 import { demoProposal, historyProposal, momentsProposal } from '../helpers/proposals.js';
 import { parkMiller } from '../helpers/reference-data.js';
@@ -103,6 +104,22 @@ describe('stressProposal', () => {
     expect(ew?.certaintyEquivalentLoss.mean).toBeGreaterThanOrEqual(0);
     expect(r.proposal.expectedShortfall95?.base).toBeGreaterThan(0);
     expect(r.meta.meanBlockLength).toBeGreaterThanOrEqual(1);
+  });
+
+  it('names a supplied singular covariance and prices it as singular after validation too', async () => {
+    // c = a + b exactly: rank 2 of 3, so the long-only mix (½, ½, …) direction a + b − c has no risk.
+    const cov = [
+      [0.04, 0.01, 0.05],
+      [0.01, 0.09, 0.1],
+      [0.05, 0.1, 0.15],
+    ];
+    const v = valid(momentsProposal({ inputs: { mean: [0.05, 0.07, 0.12], covariance: cov, observations: 60, periodsPerYear: 1 } }));
+    expect(v.warnings.map((w) => w.code)).toContain('singular-covariance');
+    expect(valid(momentsProposal()).warnings.map((w) => w.code)).not.toContain('singular-covariance');
+    // The engine's own price of the request matches validation's (singular), not the definite one.
+    expect(checkLimits('optimize', v.proposal, 1, { warnings: v.warnings })).toBeGreaterThan(checkLimits('optimize', v.proposal, 1));
+    const r = await optimizeProposal(v.proposal, v.warnings);
+    expect(r.warnings.map((w) => w.code)).toContain('singular-covariance');
   });
 
   it("reports the base estimator's figures, e.g. the Ledoit–Wolf shrinkage intensity", async () => {
