@@ -114,6 +114,11 @@ function collect(samples: Samples, run: { report: Omit<Report, 'verdict'>; run: 
   add(samples, 'volatility band width', 'proposal', report.proposal.volatilityBandWidth.value, report.proposal.volatilityBandWidth.stdErr);
 }
 
+/** (value − truth)/stdErr of every sample with a positive error. */
+function standardised(samples: readonly Sample[] | undefined, truth: number): number[] {
+  return (samples ?? []).flatMap((s) => (s.stdErr !== null && s.stdErr > 0 ? [(s.value - truth) / s.stdErr] : []));
+}
+
 function sd(xs: number[]): number {
   const mean = xs.reduce((a, b) => a + b, 0) / xs.length;
   return Math.sqrt(xs.reduce((a, b) => a + (b - mean) ** 2, 0) / (xs.length - 1));
@@ -402,16 +407,13 @@ async function main(): Promise<void> {
       });
       for (const r of verdict.rules) if (!r.pass) fails.set(r.id, (fails.get(r.id) ?? 0) + 1);
     }
+    // (value − truth)/se of the candidate's figure, and (difference − Δtruth)/paired se.
     const bias = new Map<GateMetric, number[]>();
-    for (const metric of GATE_METRICS) {
-      const t = (truthAt.get(metric) as { value: number }).value;
-      for (const est of gate.get(metric)?.get('proposal method') ?? []) if (est.stdErr !== null && est.stdErr > 0) bias.set(metric, [...(bias.get(metric) ?? []), (est.value - t) / est.stdErr]);
-    }
-    // The same for the paired difference against the baseline: (difference − Δtruth)/paired se.
     const pairedBias = new Map<GateMetric, number[]>();
     for (const metric of GATE_METRICS) {
-      const t = (truthAt.get(metric) as { diff: number }).diff;
-      for (const est of paired.get(`paired ${metric}`)?.get('proposal method') ?? []) if (est.stdErr !== null && est.stdErr > 0) pairedBias.set(metric, [...(pairedBias.get(metric) ?? []), (est.value - t) / est.stdErr]);
+      const t = truthAt.get(metric) as { value: number; diff: number };
+      bias.set(metric, standardised(gate.get(metric)?.get('proposal method'), t.value));
+      pairedBias.set(metric, standardised(paired.get(`paired ${metric}`)?.get('proposal method'), t.diff));
     }
     const seconds = (performance.now() - started) / 1000;
     const noise = 1 / Math.sqrt(2 * (K - 1));
@@ -439,10 +441,11 @@ async function main(): Promise<void> {
     for (const metric of GATE_METRICS) {
       const t = truthAt.get(metric) as { value: number; diff: number };
       const z = bias.get(metric) ?? [];
+      const zPaired = pairedBias.get(metric) ?? [];
       const stepBelow = t.value - step(metric, t.value, assets);
       console.log(
         `  ${metric.padEnd(28)} ${t.value.toFixed(5).padStart(9)}  ${rate(metric, 'max at truth').padStart(9)}  ${rate(metric, 'min at truth').padStart(9)}  ${(stepBelow < 0 ? 'n/a' : rate(metric, 'max one step below')).padStart(15)}   ` +
-          `${t.diff.toFixed(5).padStart(9)}  ${rate(metric, 'maxIncrease at truth').padStart(13)}  ${rate(metric, 'maxIncrease one step below').padStart(23)}   ${(z.length > 0 ? mean(z) : Number.NaN).toFixed(2).padStart(8)}   ${((pairedBias.get(metric) ?? []).length > 0 ? mean(pairedBias.get(metric) as number[]) : Number.NaN).toFixed(2).padStart(22)}`,
+          `${t.diff.toFixed(5).padStart(9)}  ${rate(metric, 'maxIncrease at truth').padStart(13)}  ${rate(metric, 'maxIncrease one step below').padStart(23)}   ${(z.length > 0 ? mean(z) : Number.NaN).toFixed(2).padStart(8)}   ${(zPaired.length > 0 ? mean(zPaired) : Number.NaN).toFixed(2).padStart(22)}`,
       );
     }
   }
