@@ -1,4 +1,4 @@
-import { choleskyPsd } from '../linalg/dense.js';
+import { choleskyPsd, trace } from '../linalg/dense.js';
 import { TOLERANCES } from '../schema/limits.js';
 import type { DenseRiskModel, FactorRiskModel, RiskModel } from '../linalg/risk-model.js';
 import { drawCorrelatedNormal, drawFactorNormal, drawIndependentNormal } from './normal.js';
@@ -63,9 +63,7 @@ export interface ParametricBaseInput {
  * validation and optimize accept failed the stress with a 422 (pivot −8e-12 at N = 150).
  */
 function validatedNegativeTolerance(a: Float64Array, n: number): number {
-  let trace = 0;
-  for (let i = 0; i < n; i++) trace += a[i * n + i];
-  return TOLERANCES.psd * Math.max(1, trace);
+  return TOLERANCES.psd * Math.max(1, trace(a, n));
 }
 
 /** Factor the base covariance once per request. Throws RangeError for T < 2 or a non-PSD Σ / F. */
