@@ -1,6 +1,6 @@
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
-import { BOOTSTRAP_REPLICATES, bootstrapCounts, expandedQuantile, percentileCombinationStdErr, sortedDraws } from '../../src/statistics/draw-bootstrap.js';
+import { BOOTSTRAP_REPLICATES, bootstrapCounts, expandedQuantile, percentileCombinationStdErr, resampleCounts, sortedDraws } from '../../src/statistics/draw-bootstrap.js';
 import { quantileSorted } from '../../src/statistics/quantiles.js';
 
 /** The median difference of a paired sample and its bootstrap error. */
@@ -27,9 +27,16 @@ describe('the bootstrap of the draws', () => {
     expect(Array.from(column.order)).toEqual([2, 3, 0]);
     const ones = new Int32Array(4).fill(1);
     expect(expandedQuantile(column.sorted, column.order, ones, 0.5)).toBe(0.2);
-    // Replicates are the same for the same (seed, draws): two runs on common random numbers resample the same draws.
-    expect(bootstrapCounts('s', 50)[7]).toBe(bootstrapCounts('s', 50)[7]);
-    expect(bootstrapCounts('s', 50)).toHaveLength(BOOTSTRAP_REPLICATES);
+    // Replicate r's counts come from the stream (seed, r) alone: two runs on common random numbers
+    // (same seed and draws) resample the same draws, whichever was summarised first; another seed differs.
+    const replicates = bootstrapCounts('s', 50);
+    expect(replicates).toHaveLength(BOOTSTRAP_REPLICATES);
+    const fresh = new Int32Array(50);
+    resampleCounts('s', 7, 50, fresh);
+    expect(Array.from(replicates[7])).toEqual(Array.from(fresh));
+    expect(replicates[7].reduce((a, c) => a + c, 0)).toBe(50);
+    resampleCounts('t', 7, 50, fresh);
+    expect(Array.from(replicates[7])).not.toEqual(Array.from(fresh));
   });
 
   it('a percentile difference that no replicate can move has error exactly 0; a column with one draw has none', () => {
