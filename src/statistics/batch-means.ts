@@ -347,8 +347,13 @@ export function quantileStdErrs(
   workspace: QuantileErrorWorkspace,
 ): 'order-statistic' {
   const n = gatherFiniteSorted(data, start, stride, draws, workspace.sort);
-  for (let j = 0; j < probabilities.length; j++) out[j] = orderStatisticStdErr(workspace.sort, n, probabilities[j]);
+  sortedQuantileStdErrs(workspace.sort, n, probabilities, out);
   return 'order-statistic';
+}
+
+/** quantileStdErrs of a column already gathered and sorted into sorted[0..n) (no second sort). */
+export function sortedQuantileStdErrs(sorted: ArrayLike<number>, n: number, probabilities: ArrayLike<number>, out: Float64Array): void {
+  for (let j = 0; j < probabilities.length; j++) out[j] = orderStatisticStdErr(sorted, n, probabilities[j]);
 }
 
 /** √(a² + b² − 2ρab), never below 0 (rounding). */
@@ -370,9 +375,12 @@ export function quantileWidthStdErr(
   workspace: QuantileErrorWorkspace,
 ): number {
   const n = gatherFiniteSorted(data, start, stride, draws, workspace.sort);
-  const lowErr = orderStatisticStdErr(workspace.sort, n, low);
-  const highErr = orderStatisticStdErr(workspace.sort, n, high);
-  return combineCorrelated(lowErr, highErr, quantileCorrelation(low, high));
+  return sortedQuantileWidthStdErr(workspace.sort, n, low, high);
+}
+
+/** quantileWidthStdErr of a column already gathered and sorted into sorted[0..n). */
+export function sortedQuantileWidthStdErr(sorted: ArrayLike<number>, n: number, low: number, high: number): number {
+  return combineCorrelated(orderStatisticStdErr(sorted, n, low), orderStatisticStdErr(sorted, n, high), quantileCorrelation(low, high));
 }
 
 /**

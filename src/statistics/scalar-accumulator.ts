@@ -1,7 +1,7 @@
 import {
   createQuantileErrorWorkspace,
-  quantileStdErrs,
-  quantileWidthStdErr,
+  sortedQuantileStdErrs,
+  sortedQuantileWidthStdErr,
   stridedMoments,
   type QuantileErrorWorkspace,
 } from './batch-means.js';
@@ -206,9 +206,10 @@ export class ScalarAccumulator {
     if (!this.whole) throw new RangeError('summaries need every draw: merge the ranges first');
     const moments = stridedMoments(this.values, 0, 1, this.draws);
     const percentiles = new Float64Array(SUMMARY_PROBABILITIES.length);
-    quantilesOfStrided(this.values, 0, 1, this.draws, SUMMARY_PROBABILITIES, workspace.sort, percentiles);
+    // One sort of the successful values serves the percentiles and all their errors.
+    const m = quantilesOfStrided(this.values, 0, 1, this.draws, SUMMARY_PROBABILITIES, workspace.sort, percentiles);
     const errors = new Float64Array(SUMMARY_PROBABILITIES.length);
-    const quantileErrorMethod = quantileStdErrs(this.values, 0, 1, this.draws, SUMMARY_PROBABILITIES, errors, workspace);
+    sortedQuantileStdErrs(workspace.sort, m, SUMMARY_PROBABILITIES, errors);
     return {
       ...this.counts(),
       mean: moments.mean,
@@ -220,8 +221,8 @@ export class ScalarAccumulator {
       p05StdErr: errors[0],
       p50StdErr: errors[1],
       p95StdErr: errors[2],
-      bandWidthStdErr: quantileWidthStdErr(this.values, 0, 1, this.draws, 0.05, 0.95, workspace),
-      quantileErrorMethod,
+      bandWidthStdErr: sortedQuantileWidthStdErr(workspace.sort, m, 0.05, 0.95),
+      quantileErrorMethod: 'order-statistic',
     };
   }
 

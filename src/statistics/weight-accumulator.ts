@@ -1,4 +1,4 @@
-import { createQuantileErrorWorkspace, quantileStdErrs, sdStdErrOfStrided, stridedMoments } from './batch-means.js';
+import { createQuantileErrorWorkspace, sdStdErrOfStrided, sortedQuantileStdErrs, stridedMoments } from './batch-means.js';
 import { midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
 import {
   checkAssetCount,
@@ -206,7 +206,8 @@ export class WeightAccumulator {
       const m = quantilesOfStrided(this.weights, i, n, B, BAND_PROBABILITIES, workspace.sort, bands);
       const proposalPercentile = midRankPercentileSorted(workspace.sort, m, proposal[i]);
       const proposalPercentileStdErr = midRankStdErr(workspace.sort, m, proposal[i]);
-      quantileStdErrs(this.weights, i, n, B, EDGE_PROBABILITIES, edgeErrors, workspace);
+      // workspace.sort holds this asset's successful weights, sorted (quantilesOfStrided above).
+      sortedQuantileStdErrs(workspace.sort, m, EDGE_PROBABILITIES, edgeErrors);
       const selectionRate = m > 0 ? selected / m : Number.NaN;
       const offMode = m - longestTie(workspace.sort, m);
       const minority = Math.min(selected, m - selected);
