@@ -12,6 +12,8 @@
  * ratio (it would be 0 whatever the error) and is counted as "still", with its largest mean
  * error: a percentile on a point mass that a rare rerun leaves (full Kelly's
  * certainty-equivalent-loss median on D1) rightly reports a tiny error that 150 seeds never see.
+ * A figure that moved off one value in fewer than 10 seeds is listed as "rare" with its ratio and
+ * that count: its spread is a count of rare events and its ratio far noisier than the printed noise.
  *
  * It also runs the gate itself (`judge`, as `check` does) on rules placed exactly at the true
  * value, 95 % confidence, and prints how often they fail (false fails; goal ≤ 6 %): `max` rules,
@@ -150,6 +152,8 @@ interface KindRow {
   ratios: number[];
   /** Figures whose ratio lies outside 0.8–1.2, with it. */
   outside: [string, number][];
+  /** Figures whose spread comes from fewer than RARE_MOVES seeds off their modal value: id, ratio, seeds. */
+  rare: [string, number, number][];
 }
 
 /** A spread across seeds at most this times the figure's size is rounding, not a move. */
@@ -160,11 +164,30 @@ const STILL_RELATIVE_SPREAD = 1e-12;
  * ~4e-15 (full Kelly on the demo), so its median moved by 1e-16 between seeds.
  */
 const STILL_ABSOLUTE_SPREAD = 1e-13;
+/**
+ * A figure that sits on one value in all but a few seeds (an asset crossing a band edge in 2 of
+ * 800 runs: risk parity's outside-band share on D1 at 100 draws) has a spread made of those few
+ * seeds, and its sd is no steadier than a Poisson count of them (2 seeds: ±70 %), so its ratio is
+ * printed apart, with the count, instead of among the ratios whose noise is ±1/√(2(K−1)).
+ */
+const RARE_MOVES = 10;
+
+/** Seeds whose value differs (beyond `tolerance`) from the most common value. */
+function seedsOffMode(values: readonly number[], tolerance: number): number {
+  const sorted = [...values].sort((x, y) => x - y);
+  let largest = 0;
+  let run = 0;
+  for (let j = 0; j < sorted.length; j++) {
+    run = j > 0 && sorted[j] - sorted[j - 1] <= tolerance ? run + 1 : 1;
+    if (run > largest) largest = run;
+  }
+  return sorted.length - largest;
+}
 
 function ratioRows(samples: Samples): KindRow[] {
   const rows: KindRow[] = [];
   for (const [kind, byId] of samples) {
-    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, notEstimable: 0, still: 0, stillLargest: 0, ratios: [], outside: [] };
+    const row: KindRow = { kind, figures: 0, exact: 0, flagged: 0, notEstimable: 0, still: 0, stillLargest: 0, ratios: [], outside: [], rare: [] };
     for (const [id, list] of byId) {
       row.figures++;
       const errors = list.map((s) => s.stdErr);
@@ -177,7 +200,8 @@ function ratioRows(samples: Samples): KindRow[] {
       // A spread of rounding only (the same corner portfolio's figure computed along different
       // rounding paths differs in its last bits) is no move.
       const scale = Math.max(...values.map(Math.abs));
-      const spread = rawSpread <= Math.max(STILL_RELATIVE_SPREAD * scale, STILL_ABSOLUTE_SPREAD) ? 0 : rawSpread;
+      const rounding = Math.max(STILL_RELATIVE_SPREAD * scale, STILL_ABSOLUTE_SPREAD);
+      const spread = rawSpread <= rounding ? 0 : rawSpread;
       const meanError = mean(errors as number[]);
       if (meanError === 0) {
         if (spread === 0) row.exact++;
@@ -193,6 +217,11 @@ function ratioRows(samples: Samples): KindRow[] {
         continue;
       }
       const ratio = spread / meanError;
+      const moved = seedsOffMode(values, rounding);
+      if (moved < RARE_MOVES) {
+        row.rare.push([id, ratio, moved]);
+        continue;
+      }
       row.ratios.push(ratio);
       if (ratio < 0.8 || ratio > 1.2) row.outside.push([id, ratio]);
       if (!row.worst || Math.abs(Math.log(ratio)) > Math.abs(Math.log(row.worst[1]))) row.worst = [id, ratio];
@@ -431,6 +460,7 @@ async function main(): Promise<void> {
       const still = row.still > 0 ? `   still ${row.still} (mean se ≤ ${row.stillLargest.toExponential(1)})` : '';
       console.log(`${row.kind.padEnd(34)} ${String(row.figures).padStart(7)} ${String(row.exact).padStart(6)} ${String(row.flagged).padStart(8)} ${String(row.notEstimable).padStart(5)} ${stats}${row.worst && row.ratios.length > 1 ? `   worst: ${row.worst[0]}` : ''}${still}`);
       if (row.outside.length > 0) console.log(`${''.padEnd(37)}outside 0.8–1.2: ${row.outside.map(([id, r]) => `${id} ${r.toFixed(2)}`).join(', ')}`);
+      if (row.rare.length > 0) console.log(`${''.padEnd(37)}rare (spread from < ${RARE_MOVES} seeds off one value; ratio unsteady): ${row.rare.map(([id, r, k]) => `${id} ${r.toFixed(2)} (${k} seeds)`).join(', ')}`);
     }
     const rate = (metric: GateMetric, kind: string): string => `${((100 * (fails.get(`${metric}|${kind}`) ?? 0)) / K).toFixed(1).padStart(5)} %`;
     console.log(
