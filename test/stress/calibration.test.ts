@@ -11,7 +11,7 @@ import { BAND_EDGE_TOLERANCE, outsideBandCounts, outsideBandShareBound, outsideB
 import { historyProposal } from '../helpers/proposals.js';
 
 /**
- * The fast CI version of `npm run calibrate`: K seeds of a small history case at 200 draws; for a
+ * The fast CI version of `npm run calibrate`: K seeds of a small history case at 100 and 200 draws; for a
  * few reported errors, ratio = sd of the figure across seeds ÷ mean reported stdErr must lie in
  * 0.6–1.6. With K = 40 a ratio's own noise is ≈ 1/√(2·39) ≈ 11 %, so the band is about 4 sd wide
  * either side of 1 — and an error off by 2× (ratio 0.5 or 2) fails it. The seeds are fixed.
@@ -33,7 +33,9 @@ function sd(xs: number[]): number {
 }
 
 describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reported error)', () => {
-  it('percentiles, band width, mean-driven share, max weight sd and a paired difference', async () => {
+  // The issue asks for errors honest from 100 draws up; 100 draws is also where a jackknife over
+  // min(30, ⌊B/10⌋) = 10 groups and the exact bootstrap of a p95 (5 draws above it) are thinnest.
+  it.each([100, DRAWS])('percentiles, band width, mean-driven share, max weight sd and a paired difference, %i draws', async (draws) => {
     const candidate = valid(10);
     const baseline = valid(12);
     const figures = new Map<string, { values: number[]; errors: number[] }>();
@@ -44,8 +46,8 @@ describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reporte
       figures.set(kind, f);
     };
     for (let s = 0; s < K; s++) {
-      const a = await stressRun(candidate.proposal, candidate.warnings, { draws: DRAWS, seed: `ci-${s}` });
-      const b = await stressRun(baseline.proposal, baseline.warnings, { draws: DRAWS, seed: `ci-${s}` });
+      const a = await stressRun(candidate.proposal, candidate.warnings, { draws, seed: `ci-${s}` });
+      const b = await stressRun(baseline.proposal, baseline.warnings, { draws, seed: `ci-${s}` });
       const mv = a.report.methods[0];
       // Interior percentiles (not sitting on a bound): the median of x and the 95th percentile of y.
       const summary = a.run.acc.methods[0].weights.summarize(a.run.plan.problem.proposalWeights);
@@ -66,7 +68,7 @@ describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reporte
         continue;
       }
       const ratio = spread / meanError;
-      console.log(`calibration (${K} seeds, ${DRAWS} draws): ${kind} ratio ${ratio.toFixed(3)}`);
+      console.log(`calibration (${K} seeds, ${draws} draws): ${kind} ratio ${ratio.toFixed(3)}`);
       expect(ratio, kind).toBeGreaterThan(0.6);
       expect(ratio, kind).toBeLessThan(1.6);
     }
