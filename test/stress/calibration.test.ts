@@ -33,7 +33,7 @@ function sd(xs: number[]): number {
 }
 
 describe('Monte Carlo errors are calibrated (spread across seeds ÷ mean reported error)', () => {
-  // The issue asks for errors honest from 100 draws up; 100 draws is also where a jackknife over
+  // Errors are meant to be honest from 100 draws up, and 100 draws is where a jackknife over
   // min(30, ⌊B/10⌋) = 10 groups and the exact bootstrap of a p95 (5 draws above it) are thinnest.
   it.each([100, DRAWS])('percentiles, band width, mean-driven share, max weight sd and a paired difference, %i draws', async (draws) => {
     const candidate = valid(10);
