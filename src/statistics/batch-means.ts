@@ -25,9 +25,10 @@ import { gatherFiniteSorted } from './quantiles.js';
  * - Differences between two runs on common random numbers (check --baseline) of percentiles: a
  *   bootstrap that resamples the same draws in both runs (draw-bootstrap.ts); of means and sds:
  *   the per-draw differences of their influence values.
- * - Standard deviations (max-weight-sd): the delta method, Var(s) ≈ (m₄ − s⁴)/(4s²n), m₄ the
- *   fourth central moment (no normality assumed); paired: the sd/√n of the difference of the two
- *   runs' per-draw influence values ((x − x̄)² − s²)/(2s).
+ * - Standard deviations: the delta method, Var(s) ≈ (m₄ − s⁴)/(4s²n), m₄ the fourth central
+ *   moment (no normality assumed). The max weight sd: that error of its leader, or with nearly tied
+ *   sds the error of the maximum (max-sd-error.ts); paired: the sd/√n of the difference of the two
+ *   runs' leaders' per-draw influence values ((x − x̄)² − s²)/(2s).
  * - Outside-band share: a bootstrap of the draws — R = 200 replicates, each drawing B draw indices
  *   with replacement from its own seeded stream (seed, replicate, 'mc-error'); the share is
  *   recomputed from the resampled draws and SE = sd of the replicates (Efron & Tibshirani 1993,
@@ -68,6 +69,9 @@ export const MONTE_CARLO_ERROR_DESCRIPTION =
   'at the edge of a point mass it counts the chance that a rerun leaves the mass times the jump. Band widths combine the two ' +
   'percentile errors with the asymptotic correlation of sample quantiles. Differences of percentiles of two runs on common random numbers (a baseline): ' +
   'a bootstrap that resamples the same draws in both runs (200 replicates, seeded). Standard deviations: the delta method with the fourth moment. ' +
+  'Max weight sd: the leader\'s delta-method error when no other asset\'s sd is within 4 sds of the difference; otherwise the sd, over the 200 seeded ' +
+  'replicates, of the largest of the contenders\' sds moved by their linearised bootstrap errors, around centres whose spread is de-biased by the ' +
+  'method of moments (nearly tied sds: the maximum spreads less than any one of them). Paired: the leaders\' per-draw influence differences. ' +
   'Outside-band share: a bootstrap of the draws (200 replicates, seeded, draws resampled by index). ' +
   'Mean-driven share: a delete-one-group jackknife over min(30, floor(B/10)) contiguous groups of draws ' +
   '(the bound 0.5 below 20 draws; exactly 0 when the share cannot move, e.g. a method that ignores the means; ' +

@@ -14,6 +14,7 @@ import { summarise } from './headline.js';
 import { PERCENTILE_DEFINITION } from '../statistics/quantiles.js';
 import type { ScalarSummary } from '../statistics/scalar-accumulator.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShare } from '../statistics/stability.js';
+import { maxSdStdErr } from '../statistics/max-sd-error.js';
 import { MIN_DRAWS_OFF_MODE } from '../statistics/weight-accumulator.js';
 
 
@@ -93,13 +94,11 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
     }
     const stability = outsideBandShare(a.weights.rows(), plan.draws, n, p.proposalWeights, BAND_EDGE_TOLERANCE, plan.seed);
     let maxSd = 0;
-    let maxSdErr = summary.successfulDraws < 2 ? Number.NaN : 0;
     summary.perAsset.forEach((w) => {
-      if (w.sd > maxSd) {
-        maxSd = w.sd;
-        maxSdErr = w.sdStdErr;
-      }
+      if (w.sd > maxSd) maxSd = w.sd;
     });
+    // Nearly tied sds: the error of the maximum, not of its leader (max-sd-error.ts).
+    const maxSdErr = summary.successfulDraws < 2 ? Number.NaN : maxSdStdErr(a.weights.rows(), plan.draws, n, plan.seed);
     return {
       method: spec,
       base: describeOptimum(plan.base[k], p.mean, p.riskModel, ppy),

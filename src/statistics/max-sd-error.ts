@@ -1,0 +1,177 @@
+import type { Seed } from '../resample/streams.js';
+import { sdStdErrOfStrided, stridedMoments } from './batch-means.js';
+import { BOOTSTRAP_REPLICATES, bootstrapCounts } from './draw-bootstrap.js';
+
+/**
+ * Monte Carlo error of the max weight sd, max_i s_i over the assets' sample sds of one method's
+ * weights.
+ *
+ * Why not the leader's own error: when several sds are nearly tied, which asset is largest flips
+ * between reruns, and the maximum of several noisy values spreads less than any one of them (equal independent ones: the largest of three standard
+ * normals has sd 0.748, of ten 0.587, by numerical integration of the order-statistic density).
+ * The leader's delta-method error over-stated the spread 1.4–1.5× on the demo, where several
+ * mean-variance weights have nearly equal sds (DEVELOPERS.md, calibration).
+ *
+ * The model: each sample sd is a mean of per-draw influence values, s_i ≈ σ_i + ē_i with
+ * ψ_i(b) = ((w_ib − w̄_i)² − s_i²)/(2 s_i) (the delta method's linearisation), so the vector of
+ * errors is nearly normal with the covariance of the ψ's over B draws. The spread of the maximum
+ * is read off replicates of that normal vector, e*_i = Σ_b c_b ψ_i(b) / B with the error
+ * bootstrap's multinomial counts c_b (the linearised bootstrap; for maxima of many means this is
+ * the multiplier bootstrap of Chernozhukov, Chetverikov & Kato 2013, Ann. Statist. 41(6)), and
+ * the error is the sd over the replicates of max_i (c_i + e*_i).
+ *
+ * The centres c_j: the plug-in s_j would keep the spread of the sds at its sampled size, which
+ * noise inflates, so true ties look like gaps and the error stays over-stated. By the method of
+ * moments, E Σ_j (s_j − s̄)² = Σ_j (σ_j − σ̄)² + tr(PΣ) over the k contenders (P = I − 11ᵀ/k, Σ the
+ * errors' covariance), so the deviations s_j − s̄ are scaled by √max(0, 1 − tr(PΣ)/Σ_j (s_j − s̄)²)
+ * (the positive part, as in a positive-part James–Stein estimate) and the centres keep the
+ * estimated true spread. In a normal model with known covariance this reads 0.93–1.10 of the true
+ * spread for ties of 3–10 assets and for gaps of 0.5–4 errors, where the plug-in centres read
+ * 0.83–1.04 and the leader's error 0.60–0.99 (scripts/reference/max_sd_error_reference.py); on
+ * normal draws through this code, 0.88–1.03 at 200 and 1000 draws
+ * (test/statistics/max-sd-error.test.ts; DEVELOPERS.md, calibration).
+ *
+ * Not for the paired difference of two runs (check --baseline): replicates of both runs' maxima on
+ * the same counts read 0.50–0.63 of the spread on the demo at 200–500 draws with pairwise
+ * de-biased centres and 0.62–0.71 with plug-in centres, against 0.63–0.69 for the leaders' paired
+ * delta method on the same 200 seeds, which paired.ts keeps (DEVELOPERS.md, calibration).
+ *
+ * Only contenders enter: the leader L and assets whose sampled gap to it is below CONTENDER_SDS sds
+ * of (ē_L − ē_i) (otherwise the chance that one overtakes the leader is below Φ(−4) ≈ 3e-5), at
+ * most MAX_CONTENDERS of them by size. A leader without contenders gets its own delta-method error
+ * exactly (no replicate noise), as before.
+ */
+
+/** An asset enters the maximum's error when its gap to the leader is below this many sds of the difference. */
+export const CONTENDER_SDS = 4;
+/** At most this many contenders (by sd), to bound the cost with thousands of assets. */
+export const MAX_CONTENDERS = 32;
+
+/** The assets that may set one run's max weight sd, with their centred influence values. */
+interface Contenders {
+  /** Successful draws (finite rows). */
+  readonly successful: number;
+  /** The leader's delta-method error. */
+  readonly leaderStdErr: number;
+  /** De-biased centres c_j, leader first. */
+  readonly centres: Float64Array;
+  /** Centred influence values, contender j at [j·draws, (j+1)·draws), 0 in failed draws. */
+  readonly influence: Float64Array;
+}
+
+function influenceOf(rows: Float64Array, draws: number, n: number, asset: number, out: Float64Array): number {
+  const m = stridedMoments(rows, asset, n, draws);
+  const s = m.sd;
+  let sum = 0;
+  let count = 0;
+  for (let b = 0; b < draws; b++) {
+    const w = rows[b * n + asset];
+    if (!Number.isFinite(w)) {
+      out[b] = Number.NaN;
+      continue;
+    }
+    const d = w - m.mean;
+    out[b] = s > 0 ? (d * d - s * s) / (2 * s) : 0;
+    sum += out[b];
+    count++;
+  }
+  // Centred so Σ_b ψ(b) = 0 exactly: a replicate then measures spread, not the small offset
+  // −s/2 that the (n − 1) divisor leaves.
+  const mean = count > 0 ? sum / count : 0;
+  for (let b = 0; b < draws; b++) out[b] = Number.isFinite(out[b]) ? out[b] - mean : 0;
+  return count;
+}
+
+/** Var of the mean of centred per-draw values over `successful` draws: Σ x²/(m(m − 1)). */
+function varianceOfMean(x: Float64Array, from: number, draws: number, successful: number): number {
+  let squares = 0;
+  for (let b = 0, at = from; b < draws; b++, at++) squares += x[at] * x[at];
+  return successful > 1 ? squares / ((successful - 1) * successful) : 0;
+}
+
+function contendersOf(rows: Float64Array, draws: number, n: number): Contenders | undefined {
+  const sds = new Float64Array(n);
+  let leader = -1;
+  for (let i = 0; i < n; i++) {
+    const m = stridedMoments(rows, i, n, draws);
+    if (m.count < 2) return undefined;
+    sds[i] = m.sd;
+    if (leader < 0 || m.sd > sds[leader]) leader = i;
+  }
+  if (leader < 0) return undefined;
+  const leaderStdErr = sdStdErrOfStrided(rows, leader, n, draws);
+  // Screen by sd(ē_L − ē_i) ≤ se_L + se_i (so a superset of the contenders), largest sds first.
+  const screened: number[] = [];
+  for (let i = 0; i < n; i++) {
+    if (i === leader) continue;
+    const reach = CONTENDER_SDS * (leaderStdErr + sdStdErrOfStrided(rows, i, n, draws));
+    if (reach > 0 && sds[i] >= sds[leader] - reach) screened.push(i);
+  }
+  screened.sort((x, y) => sds[y] - sds[x] || x - y);
+  const leaderInfluence = new Float64Array(draws);
+  const successful = influenceOf(rows, draws, n, leader, leaderInfluence);
+  const members: { sd: number; influence: Float64Array }[] = [{ sd: sds[leader], influence: leaderInfluence }];
+  const difference = new Float64Array(draws);
+  for (const i of screened) {
+    if (members.length >= MAX_CONTENDERS) break;
+    const psi = new Float64Array(draws);
+    influenceOf(rows, draws, n, i, psi);
+    for (let b = 0; b < draws; b++) difference[b] = leaderInfluence[b] - psi[b];
+    // A contender: its sampled gap is within CONTENDER_SDS sds of Var(ē_L − ē_i).
+    if (sds[leader] - sds[i] < CONTENDER_SDS * Math.sqrt(varianceOfMean(difference, 0, draws, successful))) members.push({ sd: sds[i], influence: psi });
+  }
+  const k = members.length;
+  const influence = new Float64Array(k * draws);
+  members.forEach((c, j) => influence.set(c.influence, j * draws));
+  const centres = Float64Array.from(members, (c) => c.sd);
+  if (k > 1) {
+    // Method of moments for the spread of the true sds among the contenders:
+    // E Σ_j (s_j − s̄)² = Σ_j (σ_j − σ̄)² + tr(PΣ), with P = I − 11ᵀ/k and Σ the covariance of the
+    // errors, tr(PΣ) = Σ_j Var(ē_j) − Var(Σ_j ē_j)/k. The deviations are scaled by
+    // f = √max(0, 1 − tr(PΣ)/Σ_j (s_j − s̄)²) so the centres' spread matches that estimate.
+    let mean = 0;
+    for (const c of centres) mean += c / k;
+    let spread = 0;
+    let trace = 0;
+    const total = new Float64Array(draws);
+    for (let j = 0; j < k; j++) {
+      spread += (centres[j] - mean) ** 2;
+      trace += varianceOfMean(influence, j * draws, draws, successful);
+      for (let b = 0, at = j * draws; b < draws; b++, at++) total[b] += influence[at];
+    }
+    trace -= varianceOfMean(total, 0, draws, successful) / k;
+    const shrink = spread > 0 ? Math.sqrt(Math.max(0, 1 - trace / spread)) : 0;
+    for (let j = 0; j < k; j++) centres[j] = mean + shrink * (centres[j] - mean);
+  }
+  return { successful, leaderStdErr, centres, influence };
+}
+
+/** max_j (c_j + e*_j) of one replicate, e*_j = Σ_b counts[b]·ψ_j(b) / B. */
+function replicateMaximum(c: Contenders, draws: number, counts: Int32Array): number {
+  let best = Number.NEGATIVE_INFINITY;
+  for (let j = 0; j < c.centres.length; j++) {
+    let sum = 0;
+    for (let b = 0, at = j * draws; b < draws; b++, at++) sum += counts[b] * c.influence[at];
+    const value = c.centres[j] + sum / c.successful;
+    if (value > best) best = value;
+  }
+  return best;
+}
+
+function sdOf(values: Float64Array): number {
+  return stridedMoments(values, 0, 1, values.length).sd;
+}
+
+/**
+ * Monte Carlo error of one method's max weight sd from its per-draw weights (rows: draws × n,
+ * NaN rows for failed draws). NaN with fewer than 2 successful draws; 0 when every weight is fixed.
+ */
+export function maxSdStdErr(rows: Float64Array, draws: number, n: number, seed: Seed): number {
+  const c = contendersOf(rows, draws, n);
+  if (!c) return Number.NaN;
+  if (c.centres.length === 1) return c.leaderStdErr;
+  const counts = bootstrapCounts(seed, draws);
+  const maxima = new Float64Array(BOOTSTRAP_REPLICATES);
+  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) maxima[r] = replicateMaximum(c, draws, counts[r]);
+  return sdOf(maxima);
+}
