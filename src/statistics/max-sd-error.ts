@@ -32,9 +32,10 @@ import { BOOTSTRAP_REPLICATES, bootstrapCounts } from './draw-bootstrap.js';
  * (test/statistics/max-sd-error.test.ts; DEVELOPERS.md, calibration).
  *
  * Not for the paired difference of two runs (check --baseline): replicates of both runs' maxima on
- * the same counts read 0.50–0.63 of the spread on the demo at 200–500 draws with pairwise
- * de-biased centres and 0.62–0.71 with plug-in centres, against 0.63–0.69 for the leaders' paired
- * delta method on the same 200 seeds, which paired.ts keeps (DEVELOPERS.md, calibration).
+ * the same counts read 0.58–0.73 of the spread on the demo at 200–500 draws with these centres,
+ * 0.50–0.63 with pairwise de-biased gaps to the leader and 0.62–0.71 with plug-in centres, against
+ * 0.63–0.69 for the leaders' paired delta method on the same 200 seeds, which paired.ts keeps
+ * (DEVELOPERS.md, calibration).
  *
  * Only contenders enter: the leader L and assets whose sampled gap to it is below CONTENDER_SDS sds
  * of (ē_L − ē_i) (otherwise the chance that one overtakes the leader is below Φ(−4) ≈ 3e-5), at
