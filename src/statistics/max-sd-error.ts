@@ -7,8 +7,9 @@ import { BOOTSTRAP_REPLICATES, bootstrapCounts } from './draw-bootstrap.js';
  * weights.
  *
  * Why not the leader's own error: when several sds are nearly tied, which asset is largest flips
- * between reruns, and the maximum of several noisy values spreads less than any one of them (equal independent ones: the largest of three standard
- * normals has sd 0.748, of ten 0.587, by numerical integration of the order-statistic density).
+ * between reruns, and the maximum of several noisy values spreads less than any one of them
+ * (equal independent ones: the largest of three standard normals has sd 0.748, of ten 0.587, by
+ * numerical integration of the order-statistic density).
  * The leader's delta-method error over-stated the spread 1.4–1.5× on the demo, where several
  * mean-variance weights have nearly equal sds (DEVELOPERS.md, calibration).
  *
@@ -112,14 +113,14 @@ function contendersOf(rows: Float64Array, draws: number, n: number): Contenders 
   const leaderInfluence = new Float64Array(draws);
   const successful = influenceOf(rows, draws, n, leader, leaderInfluence);
   const members: { sd: number; influence: Float64Array }[] = [{ sd: sds[leader], influence: leaderInfluence }];
+  const psi = new Float64Array(draws);
   const difference = new Float64Array(draws);
   for (const i of screened) {
     if (members.length >= MAX_CONTENDERS) break;
-    const psi = new Float64Array(draws);
     influenceOf(rows, draws, n, i, psi);
     for (let b = 0; b < draws; b++) difference[b] = leaderInfluence[b] - psi[b];
-    // A contender: its sampled gap is within CONTENDER_SDS sds of Var(ē_L − ē_i).
-    if (sds[leader] - sds[i] < CONTENDER_SDS * Math.sqrt(varianceOfMean(difference, 0, draws, successful))) members.push({ sd: sds[i], influence: psi });
+    // A contender: its sampled gap is within CONTENDER_SDS sds of (ē_L − ē_i).
+    if (sds[leader] - sds[i] < CONTENDER_SDS * Math.sqrt(varianceOfMean(difference, 0, draws, successful))) members.push({ sd: sds[i], influence: psi.slice() });
   }
   const k = members.length;
   const influence = new Float64Array(k * draws);
