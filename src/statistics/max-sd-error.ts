@@ -46,6 +46,8 @@ import { BOOTSTRAP_REPLICATES, bootstrapCounts } from './draw-bootstrap.js';
 
 /** An asset enters the maximum's error when its gap to the leader is below this many sds of the difference. */
 export const CONTENDER_SDS = 4;
+/** An asset whose error differs from the leader's by less than this fraction of it moves with the leader. */
+export const SAME_MOVES = 1e-6;
 /** At most this many contenders (by sd), to bound the cost with thousands of assets. */
 export const MAX_CONTENDERS = 32;
 
@@ -119,8 +121,11 @@ function contendersOf(rows: Float64Array, draws: number, n: number): Contenders 
     if (members.length >= MAX_CONTENDERS) break;
     influenceOf(rows, draws, n, i, psi);
     for (let b = 0; b < draws; b++) difference[b] = leaderInfluence[b] - psi[b];
-    // A contender: its sampled gap is within CONTENDER_SDS sds of (ē_L − ē_i).
-    if (sds[leader] - sds[i] < CONTENDER_SDS * Math.sqrt(varianceOfMean(difference, 0, draws, successful))) members.push({ sd: sds[i], influence: psi.slice() });
+    // A contender: its sampled gap is within CONTENDER_SDS sds of (ē_L − ē_i). An asset that moves
+    // with the leader (the other weight of a two-asset budget, w₂ = 1 − w₁: the same sd up to
+    // rounding) is not one: the maximum is then the leader's sd, with its exact error.
+    const apart = Math.sqrt(varianceOfMean(difference, 0, draws, successful));
+    if (apart > SAME_MOVES * leaderStdErr && sds[leader] - sds[i] < CONTENDER_SDS * apart) members.push({ sd: sds[i], influence: psi.slice() });
   }
   const k = members.length;
   const influence = new Float64Array(k * draws);

@@ -46,6 +46,18 @@ describe('maxSdStdErr', () => {
     expect(maxSdStdErr(rows, draws, 3, 7)).toBe(sdStdErrOfStrided(rows, 0, 3, draws));
   });
 
+  it('is the leader’s exact error when another asset mirrors it (two assets and a budget: w₂ = 1 − w₁)', () => {
+    const draws = 300;
+    const stream = createDrawStream(4, 0, 'mirror');
+    const rows = new Float64Array(draws * 2);
+    for (let b = 0; b < draws; b++) {
+      rows[b * 2] = 0.3 + 0.1 * stream.normal();
+      rows[b * 2 + 1] = 1 - rows[b * 2];
+    }
+    const leader = stridedMoments(rows, 1, 2, draws).sd > stridedMoments(rows, 0, 2, draws).sd ? 1 : 0;
+    expect(maxSdStdErr(rows, draws, 2, 4)).toBe(sdStdErrOfStrided(rows, leader, 2, draws));
+  });
+
   it('is 0 when every weight is fixed, and NaN with fewer than 2 successful draws', () => {
     const fixed = new Float64Array(3 * 50).fill(0.25);
     expect(maxSdStdErr(fixed, 50, 3, 1)).toBe(0);
