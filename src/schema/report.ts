@@ -145,7 +145,7 @@ export const MethodReportSchema = z.strictObject({
     .describe('Var_mean(w_i) / (Var_mean(w_i) + Var_cov(w_i)): the share of weight instability caused by noise in the means; 0 for methods that ignore means.'),
   meanOfOptima: z.array(z.number()).describe('Mean of the re-optimised weights: each asset’s weight averaged over the successful draws.'),
   outsideBandShare: EstimateSchema.describe("Share of assets whose proposed weight lies outside this method's p05–p95 band."),
-  maxWeightSd: EstimateSchema.describe('Largest standard deviation of any asset’s weight across draws.'),
+  maxWeightSd: EstimateSchema.describe('Largest standard deviation of any asset’s weight across draws. When several assets’ sds are nearly tied the largest of them is biased upward at finite draws; stdErr is its spread across reruns (the error of the maximum, see meta.monteCarloError), and the gate judges it by a bound over all assets at once.'),
   failedDraws: z.int().min(0),
   forecastSensitivity: z
     .array(ForecastSensitivitySchema)
