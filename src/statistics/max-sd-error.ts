@@ -1,5 +1,5 @@
 import type { Seed } from '../resample/streams.js';
-import { sdStdErrOfStrided, stridedMoments } from './batch-means.js';
+import { stridedMoments } from './batch-means.js';
 import { BOOTSTRAP_REPLICATES, bootstrapCounts } from './draw-bootstrap.js';
 
 /**
@@ -53,86 +53,99 @@ export const SAME_MOVES = 1e-6;
 /** At most this many contenders (by sd), to bound the cost with thousands of assets. */
 export const MAX_CONTENDERS = 32;
 
+/** One asset's weight moments as the weight summary gives them (weight-accumulator.ts). */
+export interface AssetSd {
+  readonly mean: number;
+  /** Sample sd, divisor n − 1 (NaN with fewer than 2 successful draws). */
+  readonly sd: number;
+  /** Its delta-method error (sdStdErrOfStrided). */
+  readonly sdStdErr: number;
+}
+
 /** The assets that may set one run's max weight sd, with their centred influence values. */
 interface Contenders {
   /** Successful draws (finite rows). */
   readonly successful: number;
-  /** The leader's delta-method error. */
-  readonly leaderStdErr: number;
   /** De-biased centres c_j, leader first. */
   readonly centres: Float64Array;
-  /** Centred influence values, contender j at [j·draws, (j+1)·draws), 0 in failed draws. */
-  readonly influence: Float64Array;
+  /** Centred influence values of each contender, 0 in failed draws. */
+  readonly influence: readonly Float64Array[];
 }
 
-function influenceOf(rows: Float64Array, draws: number, n: number, asset: number, out: Float64Array): number {
-  const m = stridedMoments(rows, asset, n, draws);
-  const s = m.sd;
+/**
+ * Per-draw influence values of one asset's sample sd, ψ(b) = ((w_b − w̄)² − s²)/(2s) (the delta
+ * method's linearisation; 0 everywhere when s = 0), centred so Σ_b ψ(b) = 0 over the successful
+ * draws (the (n − 1) divisor leaves an offset −s/2 that is no spread). Failed draws (NaN rows) get
+ * `failed`. Returns the number of successful draws.
+ */
+export function sdInfluence(rows: Float64Array, draws: number, n: number, asset: number, w: AssetSd, out: Float64Array, failed: number): number {
+  const s = w.sd;
   let sum = 0;
   let count = 0;
-  for (let b = 0; b < draws; b++) {
-    const w = rows[b * n + asset];
-    if (!Number.isFinite(w)) {
+  for (let b = 0, at = asset; b < draws; b++, at += n) {
+    const x = rows[at];
+    if (!Number.isFinite(x)) {
       out[b] = Number.NaN;
       continue;
     }
-    const d = w - m.mean;
+    const d = x - w.mean;
     out[b] = s > 0 ? (d * d - s * s) / (2 * s) : 0;
     sum += out[b];
     count++;
   }
-  // Centred so Σ_b ψ(b) = 0 exactly: a replicate then measures spread, not the small offset
-  // −s/2 that the (n − 1) divisor leaves.
-  const mean = count > 0 ? sum / count : 0;
-  for (let b = 0; b < draws; b++) out[b] = Number.isFinite(out[b]) ? out[b] - mean : 0;
+  const centre = count > 0 ? sum / count : 0;
+  for (let b = 0; b < draws; b++) out[b] = Number.isFinite(out[b]) ? out[b] - centre : failed;
   return count;
 }
 
-/** Var of the mean of centred per-draw values over `successful` draws: Σ x²/(m(m − 1)). */
-function varianceOfMean(x: Float64Array, from: number, draws: number, successful: number): number {
+/** Var of the mean of centred per-draw values (0 in failed draws) over `successful` draws: Σ x²/(m(m − 1)). */
+function varianceOfMean(x: Float64Array, successful: number): number {
   let squares = 0;
-  for (let b = 0, at = from; b < draws; b++, at++) squares += x[at] * x[at];
+  for (let b = 0; b < x.length; b++) squares += x[b] * x[b];
   return successful > 1 ? squares / ((successful - 1) * successful) : 0;
 }
 
-function contendersOf(rows: Float64Array, draws: number, n: number): Contenders | undefined {
-  const sds = new Float64Array(n);
+/** The asset with the largest sd (the first of equal ones), or −1 when any sd is not estimable. */
+export function maxSdLeader(perAsset: readonly AssetSd[]): number {
   let leader = -1;
-  for (let i = 0; i < n; i++) {
-    const m = stridedMoments(rows, i, n, draws);
-    if (m.count < 2) return undefined;
-    sds[i] = m.sd;
-    if (leader < 0 || m.sd > sds[leader]) leader = i;
+  for (let i = 0; i < perAsset.length; i++) {
+    if (!(perAsset[i].sd >= 0)) return -1;
+    if (leader < 0 || perAsset[i].sd > perAsset[leader].sd) leader = i;
   }
-  if (leader < 0) return undefined;
-  const leaderStdErr = sdStdErrOfStrided(rows, leader, n, draws);
+  return leader;
+}
+
+function contendersOf(rows: Float64Array, draws: number, perAsset: readonly AssetSd[], leader: number): Contenders {
+  const n = perAsset.length;
+  const top = perAsset[leader];
   // Screen by sd(ē_L − ē_i) ≤ se_L + se_i (so a superset of the contenders), largest sds first.
   const screened: number[] = [];
   for (let i = 0; i < n; i++) {
-    if (i === leader) continue;
-    const reach = CONTENDER_SDS * (leaderStdErr + sdStdErrOfStrided(rows, i, n, draws));
-    if (reach > 0 && sds[i] >= sds[leader] - reach) screened.push(i);
+    const reach = CONTENDER_SDS * (top.sdStdErr + perAsset[i].sdStdErr);
+    if (i !== leader && reach > 0 && perAsset[i].sd >= top.sd - reach) screened.push(i);
   }
-  screened.sort((x, y) => sds[y] - sds[x] || x - y);
+  screened.sort((x, y) => perAsset[y].sd - perAsset[x].sd || x - y);
   const leaderInfluence = new Float64Array(draws);
-  const successful = influenceOf(rows, draws, n, leader, leaderInfluence);
-  const members: { sd: number; influence: Float64Array }[] = [{ sd: sds[leader], influence: leaderInfluence }];
+  const successful = sdInfluence(rows, draws, n, leader, top, leaderInfluence, 0);
+  const sds = [top.sd];
+  const influence = [leaderInfluence];
   const psi = new Float64Array(draws);
   const difference = new Float64Array(draws);
   for (const i of screened) {
-    if (members.length >= MAX_CONTENDERS) break;
-    influenceOf(rows, draws, n, i, psi);
+    if (influence.length >= MAX_CONTENDERS) break;
+    sdInfluence(rows, draws, n, i, perAsset[i], psi, 0);
     for (let b = 0; b < draws; b++) difference[b] = leaderInfluence[b] - psi[b];
     // A contender: its sampled gap is within CONTENDER_SDS sds of (ē_L − ē_i). An asset that moves
     // with the leader (the other weight of a two-asset budget, w₂ = 1 − w₁: the same sd up to
     // rounding) is not one: the maximum is then the leader's sd, with its exact error.
-    const apart = Math.sqrt(varianceOfMean(difference, 0, draws, successful));
-    if (apart > SAME_MOVES * leaderStdErr && sds[leader] - sds[i] < CONTENDER_SDS * apart) members.push({ sd: sds[i], influence: psi.slice() });
+    const apart = Math.sqrt(varianceOfMean(difference, successful));
+    if (apart > SAME_MOVES * top.sdStdErr && top.sd - perAsset[i].sd < CONTENDER_SDS * apart) {
+      sds.push(perAsset[i].sd);
+      influence.push(psi.slice());
+    }
   }
-  const k = members.length;
-  const influence = new Float64Array(k * draws);
-  members.forEach((c, j) => influence.set(c.influence, j * draws));
-  const centres = Float64Array.from(members, (c) => c.sd);
+  const k = sds.length;
+  const centres = Float64Array.from(sds);
   if (k > 1) {
     // Method of moments for the spread of the true sds among the contenders:
     // E Σ_j (s_j − s̄)² = Σ_j (σ_j − σ̄)² + tr(PΣ), with P = I − 11ᵀ/k and Σ the covariance of the
@@ -142,45 +155,44 @@ function contendersOf(rows: Float64Array, draws: number, n: number): Contenders 
     for (const c of centres) mean += c / k;
     let spread = 0;
     let trace = 0;
-    const total = new Float64Array(draws);
+    const total = difference.fill(0);
     for (let j = 0; j < k; j++) {
       spread += (centres[j] - mean) ** 2;
-      trace += varianceOfMean(influence, j * draws, draws, successful);
-      for (let b = 0, at = j * draws; b < draws; b++, at++) total[b] += influence[at];
+      trace += varianceOfMean(influence[j], successful);
+      for (let b = 0; b < draws; b++) total[b] += influence[j][b];
     }
-    trace -= varianceOfMean(total, 0, draws, successful) / k;
+    trace -= varianceOfMean(total, successful) / k;
     const shrink = spread > 0 ? Math.sqrt(Math.max(0, 1 - trace / spread)) : 0;
     for (let j = 0; j < k; j++) centres[j] = mean + shrink * (centres[j] - mean);
   }
-  return { successful, leaderStdErr, centres, influence };
+  return { successful, centres, influence };
 }
 
-/** max_j (c_j + e*_j) of one replicate, e*_j = Σ_b counts[b]·ψ_j(b) / B. */
-function replicateMaximum(c: Contenders, draws: number, counts: Int32Array): number {
+/** max_j (c_j + e*_j) of one replicate, e*_j = Σ_b counts[b]·ψ_j(b) / (successful draws). */
+function replicateMaximum(c: Contenders, counts: Int32Array): number {
   let best = Number.NEGATIVE_INFINITY;
   for (let j = 0; j < c.centres.length; j++) {
+    const psi = c.influence[j];
     let sum = 0;
-    for (let b = 0, at = j * draws; b < draws; b++, at++) sum += counts[b] * c.influence[at];
+    for (let b = 0; b < psi.length; b++) sum += counts[b] * psi[b];
     const value = c.centres[j] + sum / c.successful;
     if (value > best) best = value;
   }
   return best;
 }
 
-function sdOf(values: Float64Array): number {
-  return stridedMoments(values, 0, 1, values.length).sd;
-}
-
 /**
  * Monte Carlo error of one method's max weight sd from its per-draw weights (rows: draws × n,
- * NaN rows for failed draws). NaN with fewer than 2 successful draws; 0 when every weight is fixed.
+ * NaN rows for failed draws) and each asset's moments from the weight summary. NaN when an sd is
+ * not estimable (fewer than 2 successful draws); 0 when every weight is fixed.
  */
-export function maxSdStdErr(rows: Float64Array, draws: number, n: number, seed: Seed): number {
-  const c = contendersOf(rows, draws, n);
-  if (!c) return Number.NaN;
-  if (c.centres.length === 1) return c.leaderStdErr;
+export function maxSdStdErr(rows: Float64Array, draws: number, perAsset: readonly AssetSd[], seed: Seed): number {
+  const leader = maxSdLeader(perAsset);
+  if (leader < 0) return Number.NaN;
+  const c = contendersOf(rows, draws, perAsset, leader);
+  if (c.centres.length === 1) return perAsset[leader].sdStdErr;
   const counts = bootstrapCounts(seed, draws);
   const maxima = new Float64Array(BOOTSTRAP_REPLICATES);
-  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) maxima[r] = replicateMaximum(c, draws, counts[r]);
-  return sdOf(maxima);
+  for (let r = 0; r < BOOTSTRAP_REPLICATES; r++) maxima[r] = replicateMaximum(c, counts[r]);
+  return stridedMoments(maxima, 0, 1, maxima.length).sd;
 }

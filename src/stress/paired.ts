@@ -4,6 +4,7 @@ import { percentileCombinationStdErr, sortedDraws } from '../statistics/draw-boo
 import type { Seed } from '../resample/streams.js';
 import { canonicalJson } from '../schema/canonical-json.js';
 import type { StressAccumulators, StressPlan } from './engine.js';
+import { maxSdLeader, sdInfluence } from '../statistics/max-sd-error.js';
 import { BAND_EDGE_TOLERANCE, outsideBandShareReplicates } from '../statistics/stability.js';
 
 /** A finished stress run with its per-draw data, for paired comparisons. */
@@ -86,30 +87,14 @@ function pairedMeanStdErr(x: Float64Array, y: Float64Array): number {
 }
 
 /**
- * Per-draw influence values of the sd of the asset with the largest weight sd:
- * ((w − w̄)² − s²)/(2s) (NaN in failed draws; 0 everywhere when s = 0). The delta method's
- * linearisation of the sample sd.
+ * Per-draw influence values of the sd of the asset with the largest weight sd (max-sd-error.ts,
+ * sdInfluence; NaN in failed draws): the delta method's linearisation of the sample sd.
  */
 function maxSdInfluence(rows: Float64Array, draws: number, n: number): Float64Array {
-  let best = -1;
-  let bestSd = -1;
-  let bestMean = 0;
-  for (let i = 0; i < n; i++) {
-    const m = stridedMoments(rows, i, n, draws);
-    if (m.count >= 2 && m.sd > bestSd) {
-      best = i;
-      bestSd = m.sd;
-      bestMean = m.mean;
-    }
-  }
+  const perAsset = Array.from({ length: n }, (_, i) => ({ ...stridedMoments(rows, i, n, draws), sdStdErr: Number.NaN }));
+  const leader = maxSdLeader(perAsset);
   const out = new Float64Array(draws).fill(Number.NaN);
-  if (best < 0) return out;
-  for (let b = 0; b < draws; b++) {
-    const w = rows[b * n + best];
-    if (!Number.isFinite(w)) continue;
-    const d = w - bestMean;
-    out[b] = bestSd > 0 ? (d * d - bestSd * bestSd) / (2 * bestSd) : 0;
-  }
+  if (leader >= 0) sdInfluence(rows, draws, n, leader, perAsset[leader], out, Number.NaN);
   return out;
 }
 

@@ -98,7 +98,7 @@ export function buildReport(plan: StressPlan, acc: StressAccumulators, meta: Rep
       if (w.sd > maxSd) maxSd = w.sd;
     });
     // Nearly tied sds: the error of the maximum, not of its leader (max-sd-error.ts).
-    const maxSdErr = summary.successfulDraws < 2 ? Number.NaN : maxSdStdErr(a.weights.rows(), plan.draws, n, plan.seed);
+    const maxSdErr = summary.successfulDraws < 2 ? Number.NaN : maxSdStdErr(a.weights.rows(), plan.draws, summary.perAsset, plan.seed);
     return {
       method: spec,
       base: describeOptimum(plan.base[k], p.mean, p.riskModel, ppy),

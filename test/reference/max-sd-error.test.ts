@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { createDrawStream } from '../../src/resample/streams.js';
 import { sdStdErrOfStrided, stridedMoments } from '../../src/statistics/batch-means.js';
 import { maxSdStdErr } from '../../src/statistics/max-sd-error.js';
+import { assetSds } from '../helpers/asset-sds.js';
 
 // Fixture: scripts/reference/max_sd_error_reference.py — the sd of the largest of k independent
 // standard normals, from the order-statistic density k·φ(x)·Φ(x)^(k−1) integrated with
@@ -45,7 +46,7 @@ describe('the error of a maximum of tied sds is the sd of a maximum of normals (
       const rows = tiedColumns(100 + r, draws, k);
       const sds = Array.from({ length: k }, (_, j) => stridedMoments(rows, j, k, draws).sd);
       expect(Math.max(...sds) - Math.min(...sds)).toBeLessThan(1e-15);
-      ratio += maxSdStdErr(rows, draws, k, 100 + r) / sdStdErrOfStrided(rows, 0, k, draws) / runs;
+      ratio += maxSdStdErr(rows, draws, assetSds(rows, draws, k), 100 + r) / sdStdErrOfStrided(rows, 0, k, draws) / runs;
     }
     // 40 runs × 200 replicates: the mean ratio's own noise is about 0.05/√40 ≈ 1 %; the errors of
     // permuted columns are nearly (not exactly) independent, and the leader's delta-method error
