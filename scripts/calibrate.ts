@@ -45,7 +45,7 @@ import { figureBoundsOf, type FigureBound, type FigureBoundSource } from '../src
 import { judge } from '../src/stress/verdict.js';
 import { PolicySchema, type PolicyRule } from '../src/schema/proposal.js';
 import { stridedMoments } from '../src/statistics/batch-means.js';
-import { quantileSorted } from '../src/statistics/quantiles.js';
+import { longestTie, quantileSorted } from '../src/statistics/quantiles.js';
 import { BAND_EDGE_TOLERANCE, outsideBandCounts, outsideBandShareBound, outsideBandShareOver } from '../src/statistics/stability.js';
 
 const GATE_METRICS = ['turnover-from-proposal.p50', 'turnover-from-proposal.mean', 'outside-band-share', 'volatility-band-width', 'mean-driven-share', 'max-weight-sd'] as const;
@@ -172,18 +172,6 @@ const STILL_ABSOLUTE_SPREAD = 1e-13;
  */
 const RARE_MOVES = 10;
 
-/** Seeds whose value differs (beyond `tolerance`) from the most common value. */
-function seedsOffMode(values: readonly number[], tolerance: number): number {
-  const sorted = [...values].sort((x, y) => x - y);
-  let largest = 0;
-  let run = 0;
-  for (let j = 0; j < sorted.length; j++) {
-    run = j > 0 && sorted[j] - sorted[j - 1] <= tolerance ? run + 1 : 1;
-    if (run > largest) largest = run;
-  }
-  return sorted.length - largest;
-}
-
 function ratioRows(samples: Samples): KindRow[] {
   const rows: KindRow[] = [];
   for (const [kind, byId] of samples) {
@@ -217,7 +205,8 @@ function ratioRows(samples: Samples): KindRow[] {
         continue;
       }
       const ratio = spread / meanError;
-      const moved = seedsOffMode(values, rounding);
+      // Seeds whose value differs (beyond rounding) from the most common value.
+      const moved = values.length - longestTie([...values].sort((x, y) => x - y), values.length, rounding);
       if (moved < RARE_MOVES) {
         row.rare.push([id, ratio, moved]);
         continue;

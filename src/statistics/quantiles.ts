@@ -115,3 +115,18 @@ function upperBound(sorted: ArrayLike<number>, n: number, x: number): number {
   }
   return lo;
 }
+
+/**
+ * Length of the longest run of equal values in ascending sorted[0..m) — the most common value's
+ * count; 0 when m = 0. Neighbours at most `tolerance` apart count as equal (0: exact ties; a
+ * rounding tolerance chains values that differ only in their last bits).
+ */
+export function longestTie(sorted: ArrayLike<number>, m: number, tolerance: number): number {
+  let longest = m > 0 ? 1 : 0;
+  let run = 1;
+  for (let j = 1; j < m; j++) {
+    run = sorted[j] - sorted[j - 1] <= tolerance ? run + 1 : 1;
+    if (run > longest) longest = run;
+  }
+  return longest;
+}

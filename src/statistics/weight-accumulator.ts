@@ -1,5 +1,5 @@
 import { createQuantileErrorWorkspace, sdStdErrOfStrided, sortedQuantileStdErrs, stridedMoments } from './batch-means.js';
-import { midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
+import { longestTie, midRankPercentileSorted, quantilesOfStrided } from './quantiles.js';
 import {
   checkAssetCount,
   checkDrawCount,
@@ -209,7 +209,7 @@ export class WeightAccumulator {
       // workspace.sort holds this asset's successful weights, sorted (quantilesOfStrided above).
       sortedQuantileStdErrs(workspace.sort, m, EDGE_PROBABILITIES, edgeErrors);
       const selectionRate = m > 0 ? selected / m : Number.NaN;
-      const offMode = m - longestTie(workspace.sort, m);
+      const offMode = m - longestTie(workspace.sort, m, 0);
       const minority = Math.min(selected, m - selected);
       meanOfOptima[i] = moments.mean;
       perAsset.push({
@@ -279,13 +279,3 @@ function midRankStdErr(sorted: Float64Array, n: number, x: number): number {
   return Math.sqrt(variance / n);
 }
 
-/** Length of the longest run of equal values in sorted[0..m) (the most common value's count; 0 when m = 0). */
-function longestTie(sorted: Float64Array, m: number): number {
-  let longest = m > 0 ? 1 : 0;
-  let run = 1;
-  for (let j = 1; j < m; j++) {
-    run = sorted[j] === sorted[j - 1] ? run + 1 : 1;
-    if (run > longest) longest = run;
-  }
-  return longest;
-}

@@ -1,6 +1,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
+  longestTie,
   gatherFiniteSorted,
   midRankPercentileSorted,
   PERCENTILE_DEFINITION,
@@ -75,5 +76,18 @@ describe('midRankPercentileSorted', () => {
     expect(midRankPercentileSorted(x, 4, 1)).toBe(12.5);
     expect(midRankPercentileSorted(new Float64Array(5).fill(0.2), 5, 0.2)).toBe(50);
     expect(midRankPercentileSorted(x, 0, 1)).toBeNaN();
+  });
+});
+
+describe('longestTie', () => {
+  it('counts the most common value of a sorted sample, exactly or within a rounding tolerance', () => {
+    const x = [0.1, 0.2, 0.2, 0.2, 0.3, 0.3];
+    expect(longestTie(x, 6, 0)).toBe(3);
+    expect(longestTie(x, 3, 0)).toBe(2);
+    expect(longestTie([], 0, 0)).toBe(0);
+    // Values differing in their last bits chain into one run with a tolerance, not without.
+    const rounded = [0.5, 0.5 + 2e-16, 0.5 + 4e-16, 0.7];
+    expect(longestTie(rounded, 4, 0)).toBe(1);
+    expect(longestTie(rounded, 4, 1e-13)).toBe(3);
   });
 });
