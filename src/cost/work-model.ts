@@ -225,7 +225,7 @@ export function proposalFigureUnits(s: RequestShape): number {
  * took 2.4–3.1 s, against 1.2e8 units before the bootstrap term (20–26 ns/unit) and 8.0e8 with it
  * (3–3.9 ns/unit, inside the worst rate of the calibration table). The max weight sd's error adds
  * BOOTSTRAP_REPLICATES replicates over at most MAX_CONTENDERS assets' draws per method (every asset
- * tied: 850 draws × 2000 assets 75 ms, 5000 × 200 115 ms, counted in full).
+ * tied: 850 draws × 2000 assets 53 ms, 5000 × 200 120 ms, 5000 × 2000 79 ms; counted in full).
  */
 export function summaryUnits(s: RequestShape): number {
   const stored = (s.methods.length + 1) * s.draws * s.n;
